@@ -1,0 +1,124 @@
+"""Report charts: our house style, chart builders and static rendering.
+
+Charts are built with altair and rendered to PNG with vl-convert, so the
+report carries images only (no scripts, nothing fetched). The palette is
+chosen to stay distinct in greyscale print and for the common forms of
+colour-blindness: categories differ in lightness as well as hue.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import altair as alt
+import pandas as pd
+
+alt.data_transformers.disable_max_rows()
+
+FONT = "DejaVu Sans"
+INK = "#222222"
+GRID = "#d9d9d9"
+# Dark to light; hue steps from a colour-blind-safe set, lightness steps for greyscale.
+DARK = "#1b4965"  # deep blue
+MID = "#5fa8d3"  # sky blue
+WARM = "#d9822b"  # amber
+LIGHT = "#e8e2d0"  # sand
+GREY = "#8c8c8c"
+BAND = "#bfd8b8"  # pale green band fill
+
+MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
+
+
+def style(chart: alt.TopLevelMixin, title: str, subtitle: str = "") -> alt.TopLevelMixin:
+    """Apply the house style and a title that states the finding."""
+    params = {"text": title, "anchor": "start", "fontSize": 14, "font": FONT, "color": INK}
+    if subtitle:
+        params.update(subtitle=subtitle, subtitleFont=FONT, subtitleColor="#555555", subtitleFontSize=11)
+    return (
+        chart.properties(title=alt.TitleParams(**params))
+        .configure(font=FONT, background="white")
+        .configure_axis(labelFont=FONT, titleFont=FONT, labelColor=INK, titleColor=INK, gridColor=GRID,
+                        labelFontSize=10, titleFontSize=11)
+        .configure_legend(labelFont=FONT, titleFont=FONT, labelFontSize=10, titleFontSize=11, orient="bottom")
+        .configure_view(stroke=None)
+    )
+
+
+def render_png(chart: alt.TopLevelMixin, scale: float = 2.0) -> bytes:
+    """Render a chart to PNG bytes (offline)."""
+    import vl_convert
+
+    return vl_convert.vegalite_to_png(chart.to_json(), scale=scale)
+
+
+def day_hour_map(
+    index: pd.DatetimeIndex,
+    category: Sequence[str],
+    *,
+    order: Sequence[str],
+    colours: Sequence[str],
+    legend_title: str,
+) -> alt.Chart:
+    """A day-of-year × hour-of-day map of an hourly category (one cell per hour)."""
+    frame = pd.DataFrame(
+        {
+            "date": index.normalize(),
+            "hour": index.hour,
+            "category": list(category),
+        }
+    )
+    return (
+        alt.Chart(frame)
+        .mark_rect()
+        .encode(
+            x=alt.X("date:T", title=None, axis=alt.Axis(format="%b", tickCount=12, labelAngle=0)),
+            y=alt.Y("hour:O", title="Hour starting", sort="descending",
+                    axis=alt.Axis(values=list(range(0, 24, 3)))),
+            color=alt.Color("category:N", title=legend_title,
+                            scale=alt.Scale(domain=list(order), range=list(colours))),
+        )
+        .properties(width=640, height=220)
+    )
+
+
+def monthly_ranges(monthly: pd.DataFrame, band: tuple[float, float]) -> alt.LayerChart:
+    """Mean daily minimum–maximum and monthly mean per month, against the outdoor band.
+
+    ``monthly`` has columns ``mean_C``, ``mean_daily_min_C``, ``mean_daily_max_C`` and one row per month 1–12.
+    """
+    frame = monthly.reset_index(drop=True).assign(month=list(MONTHS[: len(monthly)]))
+    x = alt.X("month:N", sort=list(MONTHS), title=None, axis=alt.Axis(labelAngle=0))
+    band_frame = pd.DataFrame({"low": [band[0]], "high": [band[1]]})
+    shade = alt.Chart(band_frame).mark_rect(color=BAND, opacity=0.6).encode(y="low:Q", y2="high:Q")
+    bars = alt.Chart(frame).mark_bar(color=MID, size=18).encode(
+        x=x,
+        y=alt.Y("mean_daily_min_C:Q", title="Outdoor dry bulb [°C]", scale=alt.Scale(zero=False)),
+        y2="mean_daily_max_C:Q",
+    )
+    ticks = alt.Chart(frame).mark_tick(color=DARK, thickness=3, size=22).encode(x=x, y="mean_C:Q")
+    return alt.layer(shade, bars, ticks).properties(width=560, height=240)
+
+
+def monthly_bars(monthly: pd.DataFrame, column: str, axis_title: str, highlight: float | None = None) -> alt.Chart:
+    """One bar per month of ``column``; months at or above ``highlight`` drawn dark."""
+    frame = monthly.reset_index(drop=True).assign(month=list(MONTHS[: len(monthly)]))
+    if highlight is None:
+        colour = alt.value(DARK)
+    else:
+        frame["met"] = frame[column] >= highlight
+        colour = alt.Color(
+            "met:N",
+            title=None,
+            scale=alt.Scale(domain=[True, False], range=[DARK, LIGHT]),
+            legend=alt.Legend(labelExpr=f"datum.value ? 'at or above {highlight:g} %' : 'below {highlight:g} %'"),
+        )
+    return (
+        alt.Chart(frame)
+        .mark_bar(stroke=INK, strokeWidth=0.5)
+        .encode(
+            x=alt.X("month:N", sort=list(MONTHS), title=None, axis=alt.Axis(labelAngle=0)),
+            y=alt.Y(f"{column}:Q", title=axis_title),
+            color=colour,
+        )
+        .properties(width=560, height=220)
+    )

@@ -1,0 +1,497 @@
+"""The project file (``project.toml``): schema, validation and overrides.
+
+Every key the project file may hold is declared here once, with its type,
+unit, default and meaning; ``freerun schema`` prints this table and the
+report's assumptions appendix lists the values used. Unknown keys are
+errors (they are usually typos).
+
+Errors are :class:`calcs.errors.ProjectError` with one line naming the file,
+the key path, the value and what is allowed.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+import re
+import tomllib
+import typing
+from pathlib import Path
+from typing import Any, Literal
+
+import pydantic
+from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
+
+from .errors import ProjectError
+
+PROJECT_FILE = "project.toml"
+RESOLVED_FILE = "project.resolved.json"
+
+WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
+_SAFE_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
+_CLOCK = re.compile(r"^([01]\d|2[0-4]):00$")
+
+
+def _f(default: Any = ..., meaning: str = "", unit: str = "", source: str = "", **kw: Any) -> Any:
+    """A schema field: default, meaning, unit and the source of the default."""
+    extra = {"unit": unit, "source": source}
+    return Field(default, description=meaning, json_schema_extra=extra, **kw)
+
+
+class _Section(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class ProjectInfo(_Section):
+    job_number: str = _f(meaning="Job number; also names the build folder (letters, digits, . _ -)")
+    title: str = _f(meaning="Report title", min_length=1, max_length=200)
+    client: str = _f(meaning="Client name", min_length=1, max_length=200)
+    site_name: str = _f(meaning="Site name as it appears on the cover", min_length=1, max_length=200)
+    design_stage: str = _f(meaning="Design stage, e.g. 'concept' or 'schematic design'", min_length=1, max_length=80)
+    revision: str = _f(meaning="Revision code, e.g. 'P01'; also names the build folder (letters, digits, . _ -)")
+    date: dt.date = _f(meaning="Date of this revision (YYYY-MM-DD)")
+    author: str = _f(meaning="Person who prepared the calculation", min_length=1, max_length=120)
+
+    @field_validator("job_number", "revision")
+    @classmethod
+    def _safe(cls, value: str) -> str:
+        if not _SAFE_NAME.match(value):
+            msg = "must be 1–64 letters, digits, '.', '_' or '-' (it names a folder)"
+            raise ValueError(msg)
+        return value
+
+
+class Site(_Section):
+    latitude: float = _f(meaning="Site latitude, north positive", unit="°", ge=-90, le=90)
+    longitude: float = _f(meaning="Site longitude, east positive", unit="°", ge=-180, le=180)
+    elevation: float = _f(0.0, meaning="Site elevation above sea level", unit="m", ge=-500, le=9000)
+    utc_offset: float = _f(
+        meaning="Local standard time offset from UTC; must match the weather file", unit="h", ge=-12, le=14
+    )
+    weather_file: str = _f(meaning="Weather file (EPW or freerun CSV), path relative to the project folder")
+    leap_day: Literal["drop", "keep"] = _f(
+        "drop", meaning="What to do with Feb 29 in a weather file that has one ('keep' needs a leap calendar_year)"
+    )
+
+
+class Occupancy(_Section):
+    days: tuple[Literal["mon", "tue", "wed", "thu", "fri", "sat", "sun"], ...] = _f(
+        ("mon", "tue", "wed", "thu", "fri"), meaning="Occupied days of the week", min_length=1
+    )
+    start: str = _f("08:00", meaning="Start of the occupied period, on the hour (HH:00)", unit="local standard time")
+    end: str = _f("18:00", meaning="End of the occupied period, on the hour (HH:00); later than start",
+                  unit="local standard time")
+    holidays: tuple[dt.date, ...] = _f((), meaning="Dates with no occupancy (YYYY-MM-DD) in calendar_year")
+    calendar_year: int = _f(
+        2026, meaning="Calendar year a typical-year weather file is stamped onto (sets weekdays)", ge=1900, le=2200
+    )
+
+    @field_validator("start", "end")
+    @classmethod
+    def _clock(cls, value: str) -> str:
+        if not _CLOCK.match(value):
+            msg = "must be a whole hour written HH:00, from 00:00 to 24:00"
+            raise ValueError(msg)
+        return value
+
+    @property
+    def start_hour(self) -> int:
+        return int(self.start[:2])
+
+    @property
+    def end_hour(self) -> int:
+        return int(self.end[:2])
+
+    @model_validator(mode="after")
+    def _order(self) -> "Occupancy":
+        if self.end_hour <= self.start_hour:
+            msg = f"end ({self.end}) must be later than start ({self.start})"
+            raise ValueError(msg)
+        wrong = [d.isoformat() for d in self.holidays if d.year != self.calendar_year]
+        if wrong:
+            msg = f"holidays {wrong} are not in calendar_year {self.calendar_year}"
+            raise ValueError(msg)
+        return self
+
+
+class Outdoor(_Section):
+    band_low: float = _f(16.0, meaning="Lower end of the outdoor dry-bulb band for opening windows",
+                         unit="°C", source="common practice, no source", ge=-20, le=40)
+    band_high: float = _f(26.0, meaning="Upper end of the outdoor dry-bulb band for opening windows",
+                          unit="°C", source="common practice, no source", ge=-20, le=45)
+    dew_point_max: float = _f(
+        17.0, meaning="Dew point ceiling above which outdoor air is too humid to admit", unit="°C",
+        source="ASHRAE 55-2010 humidity ratio limit 0.012 kg/kg ≈ 16.8 °C dew point at sea level [from memory]",
+        ge=-10, le=35,
+    )
+    wind_speed_max: float = _f(
+        10.0, meaning="Weather-station wind speed above which openings close", unit="m/s",
+        source="design assumption, no published source; set per project", gt=0, le=60,
+    )
+    rain_max: float = _f(
+        0.5, meaning="Rain above which openings close (rain is skipped when the weather file has none)",
+        unit="mm/h", source="design assumption, no published source; set per project", ge=0, le=100,
+    )
+    night_start: str = _f("22:00", meaning="Start of the night used for night-cooling potential (HH:00)")
+    night_end: str = _f("07:00", meaning="End of the night used for night-cooling potential (HH:00)")
+    night_cooling_below: float = _f(
+        18.0, meaning="A night counts as useful for night cooling when its minimum falls below this",
+        unit="°C", source="design assumption, no published source; set per project", ge=-10, le=35,
+    )
+    running_mean_alpha: float = _f(
+        0.8, meaning="Weighting of the EN 16798-1 running mean outdoor temperature", unit="-",
+        source="EN 16798-1:2019 Annex B.2.2 (recommended 0.8)", ge=0, lt=1,
+    )
+    prevailing_mean_days: int = _f(
+        7, meaning="Days averaged for the ASHRAE 55 prevailing mean outdoor temperature", unit="days",
+        source="ASHRAE 55-2020 §5.4.2.1 (7 to 30 days)", ge=7, le=30,
+    )
+    suitable_month_pct: float = _f(
+        50.0, meaning="A month 'can open up' when at least this share of its occupied hours is suitable",
+        unit="%", source="design assumption, no published source", gt=0, le=100,
+    )
+
+    @field_validator("night_start", "night_end")
+    @classmethod
+    def _clock(cls, value: str) -> str:
+        if not _CLOCK.match(value) or value == "24:00":
+            msg = "must be a whole hour written HH:00, from 00:00 to 23:00"
+            raise ValueError(msg)
+        return value
+
+    @model_validator(mode="after")
+    def _order(self) -> "Outdoor":
+        if self.band_high <= self.band_low:
+            msg = f"band_high ({self.band_high}) must be above band_low ({self.band_low})"
+            raise ValueError(msg)
+        return self
+
+
+class Zone(_Section):
+    name: str = _f(meaning="Zone name, unique in the project", min_length=1, max_length=80)
+    floor_area: float = _f(meaning="Net occupiable floor area", unit="m²", gt=0, le=1e6)
+
+
+class Decision(_Section):
+    id: str = _f(meaning="Decision reference, unique, e.g. 'D01'", min_length=1, max_length=20)
+    date: dt.date = _f(meaning="Date the decision was made")
+    by: str = _f(meaning="Who made it", min_length=1, max_length=120)
+    decision: str = _f(meaning="What was decided", min_length=1, max_length=2000)
+    rationale: str = _f(meaning="Why", min_length=1, max_length=4000)
+    relies_on: tuple[str, ...] = _f(
+        (), meaning="Result keys (e.g. 'climate.occupied_nv_suitable_pct') whose values the report prints beside it"
+    )
+    revision: str = _f("", meaning="Revision in which the decision entered (defaults to the current revision)")
+
+
+class Signature(_Section):
+    name: str = _f("", meaning="Name of the signatory", max_length=120)
+    date: dt.date | None = _f(None, meaning="Date signed")
+
+
+class SignOff(_Section):
+    prepared: Signature = _f(Signature(), meaning="Prepared by")
+    checked: Signature = _f(Signature(), meaning="Checked by")
+    approved: Signature = _f(Signature(), meaning="Approved by")
+
+
+class Project(_Section):
+    """The whole project file."""
+
+    project: ProjectInfo
+    site: Site
+    occupancy: Occupancy = _f(Occupancy(), meaning="When the building is occupied")
+    outdoor: Outdoor = _f(Outdoor(), meaning="Outdoor conditions under which windows may open")
+    zones: tuple[Zone, ...] = _f(meaning="Zones of the building (at least one)", min_length=1)
+    decisions: tuple[Decision, ...] = _f((), meaning="Decision log")
+    signoff: SignOff = _f(SignOff(), meaning="Sign-off block as written in the project file")
+
+    @model_validator(mode="after")
+    def _unique(self) -> "Project":
+        for label, items in (("zones", [z.name for z in self.zones]), ("decisions", [d.id for d in self.decisions])):
+            seen: set[str] = set()
+            for item in items:
+                if item in seen:
+                    msg = f"{label}: '{item}' appears twice; names must be unique"
+                    raise ValueError(msg)
+                seen.add(item)
+        return self
+
+    @property
+    def total_floor_area(self) -> float:
+        return float(sum(z.floor_area for z in self.zones))
+
+
+# --------------------------------------------------------------------------- loading
+
+
+def load_project(path: str | Path, overrides: typing.Sequence[str] = ()) -> Project:
+    """Read, override and validate a project file.
+
+    Parameters
+    ----------
+    path : str or Path
+        ``project.toml`` or a folder holding one, or a resolved ``.json`` written by a build.
+    overrides : sequence of str
+        ``key.path=value`` strings (TOML values; zones addressed by name, e.g.
+        ``zones.north.floor_area=420``), applied before validation.
+
+    Raises
+    ------
+    ProjectError
+        One line naming the file, the key path, the value and what is allowed.
+    """
+    path = Path(path)
+    if path.is_dir():
+        path = path / PROJECT_FILE
+    if not path.is_file():
+        msg = f"{path}: project file not found"
+        raise ProjectError(msg)
+    raw = read_raw(path)
+    for item in overrides:
+        apply_override(raw, item, source=path.name)
+    return validate(raw, source=path.name)
+
+
+def read_raw(path: Path) -> dict[str, Any]:
+    """The project file as a plain dict (TOML, or JSON for a resolved file)."""
+    try:
+        text = path.read_text(encoding="utf-8")
+    except UnicodeDecodeError as exc:
+        msg = f"{path.name}: not UTF-8 text (byte {exc.start}); save the project file as UTF-8"
+        raise ProjectError(msg) from None
+    if path.suffix == ".json":
+        return json.loads(text)
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        msg = f"{path.name}: not valid TOML: {exc}"
+        raise ProjectError(msg) from None
+
+
+def validate(raw: dict[str, Any], source: str = PROJECT_FILE) -> Project:
+    """Validate a plain dict against the schema, raising one clear ProjectError."""
+    try:
+        return Project.model_validate(raw)
+    except pydantic.ValidationError as exc:
+        errors = exc.errors()
+        first = errors[0]
+        line = _describe_error(first, raw, source)
+        if len(errors) > 1:
+            line += f" (and {len(errors) - 1} more problem{'s' if len(errors) > 2 else ''}; fix this one first)"
+        raise ProjectError(line) from None
+
+
+def _key_path(loc: tuple, raw: dict[str, Any]) -> str:
+    """Dotted key path; list items of zones/decisions shown by their name or id."""
+    parts: list[str] = []
+    node: Any = raw
+    for item in loc:
+        if isinstance(item, int) and isinstance(node, list):
+            element = node[item] if item < len(node) else None
+            label = None
+            if isinstance(element, dict):
+                label = element.get("name", element.get("id"))
+            parts[-1] = f"{parts[-1]}[{label!r}]" if isinstance(label, str) else f"{parts[-1]}[{item}]"
+            node = element
+        else:
+            parts.append(str(item))
+            node = node.get(item) if isinstance(node, dict) else None
+    return ".".join(parts) if parts else "(top level)"
+
+
+def _model_at(loc: tuple) -> type[BaseModel] | None:
+    """The schema model that holds the key at ``loc`` (for listing allowed keys)."""
+    model: Any = Project
+    for item in loc[:-1]:
+        if isinstance(item, int):
+            continue
+        field = model.model_fields.get(item) if isinstance(model, type) else None
+        if field is None:
+            return None
+        model = _inner_model(field.annotation)
+        if model is None:
+            return None
+    return model
+
+
+def _inner_model(annotation: Any) -> type[BaseModel] | None:
+    if isinstance(annotation, type) and issubclass(annotation, BaseModel):
+        return annotation
+    for arg in typing.get_args(annotation):
+        found = _inner_model(arg)
+        if found is not None:
+            return found
+    return None
+
+
+def _describe_error(err: dict[str, Any], raw: dict[str, Any], source: str) -> str:
+    loc = tuple(err["loc"])
+    key = _key_path(loc, raw)
+    kind = err["type"]
+    value = err.get("input")
+    if kind == "extra_forbidden":
+        model = _model_at(loc)
+        allowed = ", ".join(model.model_fields) if model else "see `freerun schema`"
+        return f"{source}: unknown key '{key}' (allowed here: {allowed})"
+    if kind == "missing":
+        return f"{source}: required key '{key}' is missing (see `freerun schema`)"
+    reason = err["msg"]
+    if reason.startswith("Value error, "):
+        reason = reason[len("Value error, "):]
+    shown = _short(value)
+    if isinstance(value, dict) and loc and kind.startswith("value_error"):
+        return f"{source}: {key}: {reason}"
+    return f"{source}: {key} = {shown}: {reason}"
+
+
+def _short(value: Any) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+# --------------------------------------------------------------------------- overrides
+
+
+def parse_override(item: str) -> tuple[list[str], Any]:
+    """Split ``a.b.c=value`` into a key path and a TOML-typed value."""
+    if "=" not in item:
+        msg = f"--set {item!r}: expected KEY.PATH=VALUE, e.g. zones.north.floor_area=420"
+        raise ProjectError(msg)
+    key, text = item.split("=", 1)
+    path = [p for p in key.strip().split(".")]
+    if not all(path):
+        msg = f"--set {item!r}: empty part in key path {key!r}"
+        raise ProjectError(msg)
+    try:
+        value = tomllib.loads(f"v = {text.strip()}")["v"]
+    except tomllib.TOMLDecodeError:
+        value = text.strip()  # a bare word is taken as a string
+    return path, value
+
+
+def apply_override(raw: dict[str, Any], item: str, source: str = PROJECT_FILE) -> None:
+    """Apply one ``--set`` override to the raw project dict in place.
+
+    List sections (``zones``, ``decisions``) are addressed by the item's name or id.
+    """
+    path, value = parse_override(item)
+    node: Any = raw
+    for i, part in enumerate(path[:-1]):
+        nxt = node.get(part) if isinstance(node, dict) else None
+        if isinstance(nxt, list):
+            label = path[i + 1]
+            match = [el for el in nxt if isinstance(el, dict) and label in (el.get("name"), el.get("id"))]
+            if not match:
+                names = [el.get("name", el.get("id")) for el in nxt if isinstance(el, dict)]
+                msg = f"--set {item!r}: no {part} item named {label!r} in {source} (have: {names})"
+                raise ProjectError(msg)
+            node = match[0]
+            rest = path[i + 2:]
+            _set_in(node, rest, value, item)
+            return
+        if nxt is None:
+            nxt = {}
+            if isinstance(node, dict):
+                node[part] = nxt
+        if not isinstance(nxt, dict):
+            msg = f"--set {item!r}: '{'.'.join(path[:i + 1])}' is a value, not a section"
+            raise ProjectError(msg)
+        node = nxt
+    _set_in(node, path[-1:], value, item)
+
+
+def _set_in(node: dict[str, Any], rest: list[str], value: Any, item: str) -> None:
+    if not rest:
+        msg = f"--set {item!r}: name a key inside the item, e.g. zones.north.floor_area=420"
+        raise ProjectError(msg)
+    for part in rest[:-1]:
+        node = node.setdefault(part, {})
+        if not isinstance(node, dict):
+            msg = f"--set {item!r}: '{part}' is a value, not a section"
+            raise ProjectError(msg)
+    node[rest[-1]] = value
+
+
+# --------------------------------------------------------------------------- schema listing
+
+
+def schema_rows() -> list[dict[str, str]]:
+    """Every key of the project file: path, type, unit, default, meaning, source."""
+    rows: list[dict[str, str]] = []
+    _walk(Project, "", rows)
+    return rows
+
+
+def _type_name(annotation: Any) -> str:
+    origin = typing.get_origin(annotation)
+    if origin is Literal:
+        return " | ".join(repr(a) for a in typing.get_args(annotation))
+    if origin in (tuple, list):
+        args = [a for a in typing.get_args(annotation) if a is not Ellipsis]
+        return f"list of {_type_name(args[0])}" if args else "list"
+    if origin in (typing.Union, getattr(__import__("types"), "UnionType", None)):
+        return " or ".join(_type_name(a) for a in typing.get_args(annotation) if a is not type(None)) + " (optional)"
+    names = {float: "number", int: "integer", str: "text", bool: "true/false", dt.date: "date"}
+    return names.get(annotation, getattr(annotation, "__name__", str(annotation)))
+
+
+def _walk(model: type[BaseModel], prefix: str, rows: list[dict[str, str]]) -> None:
+    for name, field in model.model_fields.items():
+        key = f"{prefix}{name}"
+        sub = _inner_model(field.annotation)
+        extra = field.json_schema_extra or {}
+        if sub is not None and typing.get_origin(field.annotation) in (tuple, list):
+            rows.append(_row(f"[[{key}]]", "list of tables", "", _default(field), field.description, ""))
+            _walk(sub, f"{key}[].", rows)
+        elif sub is not None:
+            _walk(sub, f"{key}.", rows)
+        else:
+            limits = _limits(field)
+            meaning = (field.description or "") + (f" ({limits})" if limits else "")
+            rows.append(_row(key, _type_name(field.annotation), extra.get("unit", ""), _default(field), meaning,
+                             extra.get("source", "")))
+
+
+def _limits(field: Any) -> str:
+    parts = []
+    for meta in field.metadata:
+        for attr, sym in (("gt", ">"), ("ge", "≥"), ("lt", "<"), ("le", "≤")):
+            if getattr(meta, attr, None) is not None:
+                parts.append(f"{sym} {getattr(meta, attr):g}")
+    return ", ".join(parts)
+
+
+def _default(field: Any) -> str:
+    if field.is_required():
+        return "(required)"
+    value = field.default
+    if isinstance(value, BaseModel):
+        return ""
+    if isinstance(value, tuple):
+        return "[" + ", ".join(repr(v) for v in value) + "]"
+    return repr(value) if isinstance(value, str) else str(value)
+
+
+def _row(key: str, kind: str, unit: str, default: str, meaning: str | None, source: str) -> dict[str, str]:
+    return {"key": key, "type": kind, "unit": unit, "default": default, "meaning": meaning or "", "source": source}
+
+
+def flatten(model: BaseModel, prefix: str = "") -> list[tuple[str, str]]:
+    """Every parameter as used, as (key path, value) pairs for the audit appendix."""
+    out: list[tuple[str, str]] = []
+    data = model.model_dump(mode="json")
+
+    def walk(node: Any, key: str) -> None:
+        if isinstance(node, dict):
+            for k, v in node.items():
+                walk(v, f"{key}.{k}" if key else k)
+        elif isinstance(node, list) and node and all(isinstance(v, dict) for v in node):
+            for i, v in enumerate(node):
+                label = v.get("name", v.get("id", i))
+                walk(v, f"{key}[{label}]")
+        else:
+            out.append((key, json.dumps(node, ensure_ascii=False)))
+
+    walk(data, prefix)
+    return out

@@ -1,0 +1,163 @@
+"""What a stage template needs around its calculations.
+
+A template opens its stage with :func:`open_stage`, which validates the
+project, finds the build folder and gives the stage a place for its
+outputs. Stage outputs are open files (CSV tables, PNG charts and a
+``results.json`` fragment) in ``<build_dir>/<stage>/``; later stages read
+earlier stages' outputs from there and never reach forward.
+
+When a template is run on its own (for example by ``pytest --nbval-lax
+templates/``) and an earlier stage's outputs are missing from its build
+folder, :meth:`Stage.upstream` runs that earlier template first with the
+same parameters, so each template runs on its defaults.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from .errors import StageError
+from .paths import STAGES, stage_dir, stage_template
+from .project import Project, load_project
+
+RESULTS_FILE = "results.json"
+
+
+@dataclass
+class Stage:
+    """One stage's view of the project and its build folder."""
+
+    name: str
+    project: Project
+    project_file: Path
+    build_dir: Path
+
+    @property
+    def project_dir(self) -> Path:
+        return self.project_file.parent
+
+    @property
+    def out(self) -> Path:
+        """This stage's output folder (created on first use)."""
+        path = stage_dir(self.build_dir, self.name)
+        path.mkdir(parents=True, exist_ok=True)
+        return path
+
+    # ----------------------------------------------------------------- inputs
+    def weather_path(self) -> Path:
+        return self.project_dir / self.project.site.weather_file
+
+    def weather(self):
+        """The validated weather year (see :func:`calcs.weather.read_weather`)."""
+        from .weather import read_weather
+
+        site = self.project.site
+        return read_weather(self.weather_path(), year=self.project.occupancy.calendar_year, leap_day=site.leap_day)
+
+    def upstream(self, stage: str) -> Path:
+        """Output folder of an earlier stage, running it first if it has no results yet."""
+        if stage not in STAGES or STAGES.index(stage) >= STAGES.index(self.name):
+            msg = f"stage '{self.name}' may only read earlier stages, not '{stage}'"
+            raise StageError(msg)
+        folder = stage_dir(self.build_dir, stage)
+        if not (folder / RESULTS_FILE).is_file():
+            run_template(stage, self.project_file, self.build_dir)
+        return folder
+
+    def read_table(self, stage: str, name: str, **kwargs: Any) -> pd.DataFrame:
+        """An earlier stage's CSV table, with a datetime index where it has one."""
+        path = self.upstream(stage) / f"{name}.csv"
+        return read_table(path, **kwargs)
+
+    def read_results(self, stage: str) -> dict[str, Any]:
+        return json.loads((self.upstream(stage) / RESULTS_FILE).read_text(encoding="utf-8"))
+
+    # ----------------------------------------------------------------- outputs
+    def save_table(self, frame: pd.DataFrame, name: str, *, index: bool = True) -> Path:
+        """Write a table as CSV into this stage's folder (deterministic: no timestamps)."""
+        path = self.out / f"{name}.csv"
+        frame.to_csv(path, index=index, lineterminator="\n")
+        return path
+
+    def save_results(self, results: dict[str, Any]) -> Path:
+        """Write this stage's part of results.json (keys sorted, numbers as plain JSON)."""
+        path = self.out / RESULTS_FILE
+        path.write_text(dump_json({self.name: results}), encoding="utf-8")
+        return path
+
+    def save_png(self, data: bytes, name: str) -> Path:
+        path = self.out / f"{name}.png"
+        path.write_bytes(data)
+        return path
+
+
+def open_stage(name: str, project_file: str | Path, build_dir: str | Path = "") -> Stage:
+    """Open a stage for a template.
+
+    Parameters
+    ----------
+    name : str
+        One of :data:`calcs.paths.STAGES`.
+    project_file : str or Path
+        ``project.toml`` (or the resolved JSON a build writes).
+    build_dir : str or Path
+        Build folder; empty means ``build/template-check`` beside the project folder's parent.
+    """
+    if name not in STAGES:
+        msg = f"unknown stage '{name}' (stages: {', '.join(STAGES)})"
+        raise StageError(msg)
+    project_path = Path(project_file).resolve()
+    project = load_project(project_path)
+    folder = Path(build_dir).resolve() if build_dir else (project_path.parent.parent / "build" / "template-check")
+    folder.mkdir(parents=True, exist_ok=True)
+    return Stage(name=name, project=project, project_file=project_path, build_dir=folder)
+
+
+def run_template(stage: str, project_file: str | Path, build_dir: str | Path) -> Path:
+    """Execute one stage template with papermill into ``<build_dir>/notebooks/``."""
+    import papermill
+
+    out = Path(build_dir) / "notebooks" / f"{stage}.ipynb"
+    out.parent.mkdir(parents=True, exist_ok=True)
+    papermill.execute_notebook(
+        str(stage_template(stage)),
+        str(out),
+        parameters={"project_file": str(project_file), "build_dir": str(build_dir)},
+        kernel_name="python3",
+        progress_bar=False,
+        cwd=str(build_dir),
+    )
+    return out
+
+
+def read_table(path: str | Path, **kwargs: Any) -> pd.DataFrame:
+    """Read a stage CSV table; a first column named ``time`` becomes a DatetimeIndex."""
+    frame = pd.read_csv(path, **kwargs)
+    if frame.columns[0] == "time":
+        frame["time"] = pd.to_datetime(frame["time"])
+        frame = frame.set_index("time")
+    return frame
+
+
+def _clean(value: Any) -> Any:
+    """JSON-safe plain values: numpy scalars to Python, NaN to None."""
+    if isinstance(value, dict):
+        return {str(k): _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+def dump_json(data: dict[str, Any]) -> str:
+    """Deterministic JSON text (sorted keys, two-space indent, trailing newline)."""
+    return json.dumps(_clean(data), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
