@@ -60,20 +60,21 @@ def day_hour_map(
     legend_title: str,
 ) -> alt.Chart:
     """A day-of-year × hour-of-day map of an hourly category (one cell per hour)."""
-    frame = pd.DataFrame(
-        {
-            "date": index.normalize(),
-            "hour": index.hour,
-            "category": list(category),
-        }
-    )
+    day = index.day_of_year.to_numpy()
+    frame = pd.DataFrame({"day": day, "day_end": day + 1, "hour": index.hour, "hour_end": index.hour + 1,
+                          "category": list(category)})
+    starts = [int(pd.Timestamp(year=index[0].year, month=m, day=1).day_of_year) for m in range(1, 13)]
+    label = "{" + ", ".join(f"{d}: '{MONTHS[i]}'" for i, d in enumerate(starts)) + "}"
     return (
         alt.Chart(frame)
         .mark_rect()
         .encode(
-            x=alt.X("date:T", title=None, axis=alt.Axis(format="%b", tickCount=12, labelAngle=0)),
-            y=alt.Y("hour:O", title="Hour starting", sort="descending",
-                    axis=alt.Axis(values=list(range(0, 24, 3)))),
+            x=alt.X("day:Q", title=None, scale=alt.Scale(domain=[1, int(day.max()) + 1], nice=False),
+                    axis=alt.Axis(values=starts, labelExpr=f"{label}[datum.value]", grid=False)),
+            x2="day_end:Q",
+            y=alt.Y("hour:Q", title="Hour starting", scale=alt.Scale(domain=[0, 24], nice=False),
+                    axis=alt.Axis(values=list(range(0, 25, 3)), grid=False)),
+            y2="hour_end:Q",
             color=alt.Color("category:N", title=legend_title,
                             scale=alt.Scale(domain=list(order), range=list(colours))),
         )
@@ -90,9 +91,12 @@ def monthly_ranges(monthly: pd.DataFrame, band: tuple[float, float]) -> alt.Laye
     x = alt.X("month:N", sort=list(MONTHS), title=None, axis=alt.Axis(labelAngle=0))
     band_frame = pd.DataFrame({"low": [band[0]], "high": [band[1]]})
     shade = alt.Chart(band_frame).mark_rect(color=BAND, opacity=0.6).encode(y="low:Q", y2="high:Q")
+    low = min(float(frame["mean_daily_min_C"].min()), band[0])
+    high = max(float(frame["mean_daily_max_C"].max()), band[1])
+    domain = [5 * ((low - 1) // 5), 5 * (-((-high - 1) // 5))]
     bars = alt.Chart(frame).mark_bar(color=MID, size=18).encode(
         x=x,
-        y=alt.Y("mean_daily_min_C:Q", title="Outdoor dry bulb [°C]", scale=alt.Scale(zero=False)),
+        y=alt.Y("mean_daily_min_C:Q", title="Outdoor dry bulb [°C]", scale=alt.Scale(domain=domain, nice=False)),
         y2="mean_daily_max_C:Q",
     )
     ticks = alt.Chart(frame).mark_tick(color=DARK, thickness=3, size=22).encode(x=x, y="mean_C:Q")

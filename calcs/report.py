@@ -71,7 +71,11 @@ def notebook_html(path: str | Path) -> str:
 
 
 def _shift_headings(fragment: str, section: str, toc: list[dict[str, Any]]) -> str:
-    """Notebook '#' headings become h2 in the report (h1 is the title); collect the contents."""
+    """Notebook headings move one level down in the report; collect the contents.
+
+    A notebook's own title (its first '#' heading) is dropped: the report titles each stage itself.
+    """
+    fragment = re.sub(r"<h1>.*?</h1>", "", fragment, count=1, flags=re.S)
     counter = {"n": 0}
 
     def repl(match: re.Match[str]) -> str:

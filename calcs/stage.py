@@ -132,6 +132,8 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path) ->
         kernel_name="python3",
         progress_bar=False,
         cwd=str(build_dir),
+        # the kernel would otherwise warn on stderr about its local TCP transport
+        extra_arguments=["--IPKernelApp.log_level=ERROR"],
     )
     return out
 
