@@ -26,6 +26,7 @@ import pytest
 from numpy.testing import assert_allclose
 
 from calcs.errors import FreerunError, WeatherError
+from public_data import tmy3_frame
 from calcs.weather import (
     COLUMNS,
     dew_point_magnus_alduchov96,
@@ -78,40 +79,6 @@ psychrolib.SetUnitSystem(psychrolib.SI)
 # public typical-year data as freerun frames
 
 
-def _tmy3_frame(fname):
-    """A pvlib TMY3 file as a freerun frame: hour-start labels, SI units, NaN for missing.
-
-    TMY3 stamps each hour at its END (01:00 = 00:00–01:00; Wilcox & Marion
-    2008, NREL/TP-581-43156; pvlib read_tmy3 docstring warning), so the
-    labels move back one hour. Pressure is in mbar (×100 → Pa); -9900 is the
-    TMY3 missing value for precipitation.
-    """
-    df, meta = pvlib.iotools.read_tmy3(PVLIB_DATA / fname, coerce_year=YEAR)
-    frame = pd.DataFrame(
-        {
-            "temp_air": df["temp_air"],
-            "temp_dew": df["temp_dew"],
-            "relative_humidity": df["relative_humidity"],
-            "pressure": df["pressure"] * 100.0,
-            "wind_speed": df["wind_speed"],
-            "wind_direction": df["wind_direction"],
-            "ghi": df["ghi"],
-            "dni": df["dni"],
-            "dhi": df["dhi"],
-            "rain": df["Lprecip depth (mm)"].where(df["Lprecip depth (mm)"] > -9900),
-        }
-    ).astype(float)
-    frame.index = (df.index - pd.Timedelta(hours=1)).tz_localize(None)
-    site = {
-        "location": meta["Name"].strip('"'),
-        "latitude": meta["latitude"],
-        "longitude": meta["longitude"],
-        "utc_offset": meta["TZ"],
-        "elevation": meta["altitude"],
-    }
-    return frame, site
-
-
 def _tmy2_frame(fname):
     """pvlib's TMY2 file as a freerun frame (read_tmy2 labels hour starts; tenths → units)."""
     df, meta = pvlib.iotools.read_tmy2(PVLIB_DATA / fname)
@@ -140,8 +107,8 @@ def _tmy2_frame(fname):
 
 
 PUBLIC_FILES = {
-    "723170TYA.CSV": _tmy3_frame,  # TMY3 Greensboro
-    "703165TY.csv": _tmy3_frame,  # TMY3 Sand Point (precipitation mostly missing)
+    "723170TYA.CSV": tmy3_frame,  # TMY3 Greensboro
+    "703165TY.csv": tmy3_frame,  # TMY3 Sand Point (precipitation mostly missing)
     "12839.tm2": _tmy2_frame,  # TMY2 Miami
 }
 
@@ -167,7 +134,7 @@ def public_epw(request, public_epws):
 @pytest.fixture(scope="module")
 def greensboro(tmp_path_factory):
     """Greensboro TMY3 frame with its EPW and CSV texts (a valid base to break)."""
-    frame, site = _tmy3_frame("723170TYA.CSV")
+    frame, site = tmy3_frame("723170TYA.CSV")
     folder = tmp_path_factory.mktemp("greensboro")
     epw = folder / "base.epw"
     csv_path = folder / "base.csv"

@@ -1,0 +1,237 @@
+"""End-to-end builds with the real command: report content, results, audit files, failures.
+
+The climate numbers are checked against independent pandas computations on
+public data (pvlib's Greensboro NC TMY3 file, NREL), not against the invented demo.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import html
+import json
+import re
+import shutil
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from numpy.testing import assert_allclose
+
+from calcs.cli import EXIT_STAGE_FAILED, main
+from calcs.paths import TEMPLATES_ENV, templates_dir
+from conftest import DEMO, toml_dumps
+from public_data import tmy3_frame
+
+CLIMATE_KEYS = ("hours", "annual_mean_C", "monthly_mean_C", "occupied_hours", "band_C",
+                "occupied_in_band_pct", "occupied_nv_suitable_pct")
+
+
+def _build(args, capsys) -> tuple[int, str, str]:
+    code = main(["build", *args, "--quiet"])
+    captured = capsys.readouterr()
+    return code, captured.out, captured.err
+
+
+@pytest.fixture(scope="module")
+def demo_build(tmp_path_factory) -> Path:
+    out = tmp_path_factory.mktemp("demo") / "P01"
+    assert main(["build", str(DEMO), "--out", str(out), "--quiet"]) == 0
+    return out
+
+
+def _text(page: str) -> str:
+    """Visible text of the report, tags stripped, entities decoded, spaces collapsed."""
+    return re.sub(r"\s+", " ", html.unescape(re.sub(r"<[^>]+>", " ", page)))
+
+
+def test_demo_report_sections_and_cautions(demo_build):
+    page = (demo_build / "report.html").read_text(encoding="utf-8")
+    text = _text(page)
+    for heading in ("Contents", "Important notes on this estimate", "1. Climate", "2. Heat gains and loads",
+                    "3. Ventilation openings", "4. Comfort hours", "5. Energy savings", "Decision log",
+                    "Audit appendix", "The year at a glance", "Monthly climate"):
+        assert heading in text, heading
+    for caution in ("not a compliance assessment", "fire and smoke", "security", "acoustics",
+                    "outdoor air quality", "licensed or chartered engineer", "building codes"):
+        assert caution in text, caution
+    assert "Status: DRAFT" in text
+    assert "invented" in text  # the demo says it is invented
+    assert text.count("Not yet calculated.") == 4  # loads, openings, comfort, energy say so plainly
+
+
+def test_demo_report_is_self_contained(demo_build):
+    page = (demo_build / "report.html").read_text(encoding="utf-8")
+    assert "<script" not in page.lower()
+    assert not re.search(r"""(src|href)\s*=\s*["']?https?:""", page, re.I)
+    assert "<link" not in page.lower()
+    assert page.count('src="data:image/png;base64,') == 3  # the three climate charts
+    assert "Traceback" not in page and "stderr" not in page
+
+
+def test_demo_results_keys_and_report_numbers(demo_build):
+    results = json.loads((demo_build / "results.json").read_text(encoding="utf-8"))
+    climate = results["climate"]
+    for key in CLIMATE_KEYS:
+        assert key in climate, key
+    assert climate["hours"] == 8760
+    assert len(climate["monthly_mean_C"]) == 12
+    assert climate["band_C"] == [16.0, 26.0]
+    assert 0 <= climate["occupied_nv_suitable_pct"] <= climate["occupied_in_band_pct"] <= 100
+    for stage in ("loads", "openings", "comfort", "energy"):
+        assert results[stage] == {"status": "not yet calculated"}
+    text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
+    assert f"{climate['occupied_nv_suitable_pct']:.1f} % of the {climate['occupied_hours']:,} occupied hours" in text
+    assert f"{climate['occupied_in_band_pct']:.1f} % of occupied hours have an outdoor dry bulb" in text
+    assert f"Annual mean dry bulb {climate['annual_mean_C']:.1f} °C" in text
+    # the decision log prints the results it relied on
+    assert f"climate.occupied_in_band_pct = {climate['occupied_in_band_pct']:,.1f}" in text
+
+
+def test_demo_build_folder_holds_the_calculation_record(demo_build):
+    for stage in ("climate", "loads", "openings", "comfort", "energy"):
+        assert (demo_build / "notebooks" / f"{stage}.ipynb").is_file()
+        assert (demo_build / stage / "results.json").is_file()
+    for table in ("hourly", "daily", "monthly"):
+        assert (demo_build / "climate" / f"{table}.csv").is_file()
+    hourly = pd.read_csv(demo_build / "climate" / "hourly.csv")
+    assert len(hourly) == 8760
+    manifest = json.loads((demo_build / "manifest.json").read_text(encoding="utf-8"))
+    for key in ("inputs_sha256", "results_sha256", "digest", "tool_version", "overrides"):
+        assert key in manifest
+    epw = DEMO / "weather" / "port_merrow_invented.epw"
+    assert manifest["inputs_sha256"]["weather/port_merrow_invented.epw"] == hashlib.sha256(epw.read_bytes()).hexdigest()
+    assert manifest["inputs_sha256"]["project.toml"] == hashlib.sha256((DEMO / "project.toml").read_bytes()).hexdigest()
+    results = (demo_build / "results.json").read_bytes()
+    assert manifest["results_sha256"] == hashlib.sha256(results).hexdigest()
+    text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
+    assert manifest["inputs_sha256"]["project.toml"] in text  # audit appendix lists input digests
+    assert "outdoor.band_low" in text  # every parameter as used
+
+
+# ------------------------------------------------------------------ public data, escaping, determinism
+
+
+def _independent_climate(year: int = 2026) -> dict[str, object]:
+    """Climate figures from pvlib's own reading of the TMY3 file, computed with pandas only."""
+    frame, _ = tmy3_frame("723170TYA.CSV", year=year)
+    t = frame["temp_air"]
+    holidays = {dt.date(year, 1, 1), dt.date(year, 12, 25)}
+    idx = frame.index
+    occupied = (idx.day_of_week < 5) & (idx.hour >= 8) & (idx.hour < 18) & ~pd.Index(idx.date).isin(holidays)
+    in_band = (t >= 16.0) & (t <= 26.0)
+    rain = frame["rain"].fillna(0.0)
+    suitable = in_band & (frame["temp_dew"] <= 17.0) & (frame["wind_speed"] <= 10.0) & (rain <= 0.5)
+    return {
+        "annual_mean_C": t.mean(),
+        "monthly_mean_C": t.groupby(idx.month).mean().to_numpy(),
+        "occupied_hours": int(occupied.sum()),
+        "occupied_in_band_pct": 100 * in_band[occupied].mean(),
+        "occupied_nv_suitable_pct": 100 * suitable[occupied].mean(),
+    }
+
+
+@pytest.fixture(scope="module")
+def public_builds(tmp_path_factory, greensboro_epw):
+    """Two builds of one project on public weather, with markup in its text, plus a check run."""
+    from conftest import project_dict
+
+    epw, site = greensboro_epw
+    root = tmp_path_factory.mktemp("public")
+    folder = root / "project"
+    (folder / "weather").mkdir(parents=True)
+    shutil.copy(epw, folder / "weather" / epw.name)
+    data = project_dict(site, epw.name)
+    data["project"]["title"] = "<script>alert('x')</script> Tower & Annex"
+    data["zones"][0]["name"] = "<b>north</b>"
+    (folder / "project.toml").write_text(toml_dumps(data), encoding="utf-8")
+    original = (folder / "project.toml").read_bytes()
+    a, b, check = root / "a", root / "b", root / "check"
+    assert main(["build", str(folder), "--out", str(a), "--quiet"]) == 0
+    assert main(["build", str(folder), "--out", str(b), "--quiet"]) == 0
+    assert main(["build", str(folder), "--out", str(check), "--quiet", "--set", "outdoor.band_high=28"]) == 0
+    assert (folder / "project.toml").read_bytes() == original, "a check run never alters the project file"
+    return {"a": a, "b": b, "check": check}
+
+
+def test_climate_results_match_independent_pandas_on_public_data(public_builds):
+    climate = json.loads((public_builds["a"] / "results.json").read_text(encoding="utf-8"))["climate"]
+    expected = _independent_climate()
+    assert climate["occupied_hours"] == expected["occupied_hours"]
+    # EPW stores dry bulb to 0.1 °C: means agree to well within the written precision
+    assert_allclose(climate["annual_mean_C"], expected["annual_mean_C"], atol=0.01)
+    assert_allclose(climate["monthly_mean_C"], expected["monthly_mean_C"], atol=0.01)
+    assert_allclose(climate["occupied_in_band_pct"], expected["occupied_in_band_pct"], atol=1e-9)
+    assert_allclose(climate["occupied_nv_suitable_pct"], expected["occupied_nv_suitable_pct"], atol=1e-9)
+
+
+def test_project_text_is_escaped(public_builds):
+    page = (public_builds["a"] / "report.html").read_text(encoding="utf-8")
+    assert "<script" not in page.lower()
+    assert "&lt;script&gt;alert(" in page
+    assert "<b>north</b>" not in page
+    assert "&lt;b&gt;north&lt;/b&gt;" in page
+
+
+def test_two_builds_are_byte_identical(public_builds):
+    a, b = public_builds["a"], public_builds["b"]
+    assert (a / "results.json").read_bytes() == (b / "results.json").read_bytes()
+    for table in sorted((a / "climate").glob("*.csv")):
+        assert table.read_bytes() == (b / "climate" / table.name).read_bytes(), table.name
+    digest = [json.loads((p / "manifest.json").read_text(encoding="utf-8"))["digest"] for p in (a, b)]
+    assert digest[0] == digest[1]
+    assert str(a) not in (a / "results.json").read_text(encoding="utf-8")
+
+
+def test_check_run_records_overrides(public_builds):
+    check = public_builds["check"]
+    manifest = json.loads((check / "manifest.json").read_text(encoding="utf-8"))
+    assert manifest["overrides"] == ["outdoor.band_high=28"]
+    results = json.loads((check / "results.json").read_text(encoding="utf-8"))
+    assert results["climate"]["band_C"] == [16.0, 28.0]
+    text = _text((check / "report.html").read_text(encoding="utf-8"))
+    assert "CHECK RUN with overrides: outdoor.band_high=28" in text
+    resolved = json.loads((check / "inputs" / "project.resolved.json").read_text(encoding="utf-8"))
+    assert resolved["outdoor"]["band_high"] == 28
+
+
+# ------------------------------------------------------------------ a failing stage
+
+
+def test_failing_stage_keeps_previous_report(make_project, tmp_path, capsys, monkeypatch):
+    folder = make_project()
+    out = tmp_path / "build" / "P01"
+    code, _, err = _build([str(folder), "--out", str(out)], capsys)
+    assert code == 0, err
+    before = {p.name: p.read_bytes() for p in (out / "report.html", out / "results.json")}
+
+    broken = tmp_path / "templates"
+    shutil.copytree(templates_dir(), broken)
+    nb = json.loads((broken / "loads.ipynb").read_text(encoding="utf-8"))
+    nb["cells"].append({"cell_type": "code", "id": "deliberate-failure", "metadata": {}, "outputs": [], "execution_count": None,
+                        "source": "raise RuntimeError('deliberate failure for the test')"})
+    (broken / "loads.ipynb").write_text(json.dumps(nb), encoding="utf-8")
+    monkeypatch.setenv(TEMPLATES_ENV, str(broken))
+
+    code, _, err = _build([str(folder), "--out", str(out)], capsys)
+    assert code == EXIT_STAGE_FAILED
+    assert "stage 'loads' failed in cell" in err and "deliberate failure for the test" in err
+    assert "Traceback" not in err
+    assert {p.name: p.read_bytes() for p in (out / "report.html", out / "results.json")} == before
+    failed = tmp_path / "build" / "P01.failed" / "notebooks" / "loads.ipynb"
+    assert failed.is_file(), "the partly executed notebook is kept for inspection"
+    assert "deliberate failure" in failed.read_text(encoding="utf-8")
+    leftovers = [p.name for p in (tmp_path / "build").iterdir() if p.name.startswith(".")]
+    assert leftovers == []
+
+
+def test_default_output_folder(make_project, tmp_path, capsys, monkeypatch):
+    folder = make_project()
+    monkeypatch.chdir(tmp_path)
+    code, out, err = _build([str(folder)], capsys)
+    assert code == 0, err
+    assert (tmp_path / "build" / "TEST-1" / "P01" / "report.html").is_file()
+    assert out.strip().endswith("build/TEST-1/P01/report.html")
+    assert np.isfinite(json.loads((tmp_path / "build" / "TEST-1" / "P01" / "results.json").read_text())["climate"]
+                       ["annual_mean_C"])
