@@ -24,6 +24,8 @@ from calcs.paths import TEMPLATES_ENV, templates_dir
 from conftest import DEMO, toml_dumps
 from public_data import tmy3_frame
 
+pytestmark = pytest.mark.slow
+
 CLIMATE_KEYS = ("hours", "annual_mean_C", "monthly_mean_C", "occupied_hours", "band_C",
                 "occupied_in_band_pct", "occupied_nv_suitable_pct")
 
