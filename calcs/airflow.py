@@ -1617,3 +1617,94 @@ def _describe(value: Any) -> str:
     if arr.ndim == 0 or np.all(arr == arr.flat[0]):
         return f"{float(arr.flat[0]):g}"
     return "the given"
+
+
+# --------------------------------------------------------------------------------------
+# a zone's openings as a whole, by ventilation arrangement
+# --------------------------------------------------------------------------------------
+
+#: Ventilation arrangements of a zone and the published method used for each.
+ARRANGEMENT_METHODS = {
+    "single_sided": "larger of single-sided wind (Warren & Parkins 1984, BS 5925 Fig. 8(d)) and "
+                    "single-opening stack (BS 5925:1991 Fig. 8(f))",
+    "single_sided_two_level": "larger of single-sided wind (Warren & Parkins 1984) and two-opening "
+                              "single-sided stack, equal areas (BS 5925:1991 Fig. 8(e))",
+    "cross": "BS 5925:1991 Fig. 8(c) wind and stack combined (larger of cross wind, Fig. 8(a), and stack, "
+             "Fig. 8(b)), area split equally windward/leeward and low/high",
+    "stack": "stack through low inlets and high outlets, equal areas (BS 5925:1991 Fig. 8(b)); wind ignored",
+}
+
+
+def arrangement_flow(arrangement, free_area, *, wind_speed_met, wind_speed_building, temp_in, temp_air,
+                     opening_height, stack_height=0.0, cp_windward=0.5, cp_leeward=-0.3,
+                     discharge_coefficient=_CD_ORIFICE):
+    """Airflow through all of a zone's openings for its ventilation arrangement.
+
+    Parameters
+    ----------
+    arrangement : str
+        "single_sided", "single_sided_two_level", "cross" or "stack".
+    free_area : float, array or Series
+        Total free area of the zone's openings [m²].
+    wind_speed_met : float, array or Series
+        Weather-station wind speed at 10 m (single-sided wind methods) [m s⁻¹].
+    wind_speed_building : float, array or Series
+        Mean wind speed at the openings' height (cross ventilation) [m s⁻¹].
+    temp_in, temp_air : float, array or Series
+        Indoor and outdoor air temperatures [°C].
+    opening_height : float
+        Height of one opening (single-opening stack) [m].
+    stack_height : float
+        Vertical distance between low and high opening centres [m].
+    cp_windward, cp_leeward : float
+        Wind pressure coefficients (cross ventilation) [-].
+    discharge_coefficient : float
+        Cd of the openings [-].
+
+    Returns
+    -------
+    flow : float, array or Series
+        Volume flow [m³ s⁻¹].
+
+    Notes
+    -----
+    Every method is proportional to the total free area once the split
+    between openings is fixed: Q = A·q₁(conditions). The methods used are
+    listed in :data:`ARRANGEMENT_METHODS`. Taking the larger of wind- and
+    stack-driven flow follows BS 5925:1991 for single-sided and cross
+    ventilation [from memory].
+
+    References
+    ----------
+    BS 5925:1991, clause 9 and Fig. 8; Warren, P.R. & Parkins, L.M. (1984),
+    "Single-sided ventilation through open windows", ASHRAE/DOE conference
+    on thermal performance of building envelopes.
+    """
+    area = np.asarray(free_area, dtype=float)
+    if arrangement == "single_sided":
+        q1 = np.maximum(_unit_flow_single_wind(wind_speed=wind_speed_met),
+                        _unit_flow_single_stack(discharge_coefficient, height=opening_height,
+                                                temp_in=temp_in, temp_air=temp_air))
+    elif arrangement == "single_sided_two_level":
+        q1 = np.maximum(_unit_flow_single_wind(wind_speed=wind_speed_met),
+                        _unit_flow_single_two(1.0, discharge_coefficient, height=stack_height,
+                                              temp_in=temp_in, temp_air=temp_air))
+    elif arrangement == "cross":
+        if np.all(np.asarray(stack_height) == 0):
+            q1 = _unit_flow_cross_wind(1.0, discharge_coefficient, wind_speed=wind_speed_building,
+                                       cp_windward=cp_windward, cp_leeward=cp_leeward)
+        else:
+            q1 = _unit_flow_combined((0.25, 0.25, 0.25, 0.25), discharge_coefficient, height=stack_height,
+                                     wind_speed=wind_speed_building, cp_windward=cp_windward,
+                                     cp_leeward=cp_leeward, temp_in=temp_in, temp_air=temp_air)
+    elif arrangement == "stack":
+        q1 = _unit_flow_stack_two(1.0, discharge_coefficient, height=stack_height, temp_in=temp_in,
+                                  temp_air=temp_air)
+    else:
+        msg = f"arrangement must be one of {', '.join(ARRANGEMENT_METHODS)}, got {arrangement!r}"
+        raise ProjectError(msg)
+    result = area * np.asarray(q1, dtype=float)
+    for value in (free_area, wind_speed_met, wind_speed_building, temp_in, temp_air):
+        if isinstance(value, pd.Series):
+            return pd.Series(np.broadcast_to(result, value.shape), index=value.index, name="flow")
+    return float(result) if np.ndim(result) == 0 else result

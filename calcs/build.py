@@ -28,7 +28,7 @@ from typing import Any
 from . import audit
 from .errors import FreerunError, StageError
 from .paths import STAGES
-from .project import PROJECT_FILE, RESOLVED_FILE, Project, flatten, load_project
+from .project import DEFAULTS_FILE, PROJECT_FILE, RESOLVED_FILE, Project, defaults_used, flatten, load_project
 from .report import render_report
 from .stage import dump_json, run_template
 
@@ -68,6 +68,7 @@ def prepare_inputs(project_file: Path, project: Project, folder: Path, overrides
     resolved = project.model_dump(mode="json")
     resolved["site"]["weather_file"] = f"weather/{weather_src.name}"
     (inputs / RESOLVED_FILE).write_text(dump_json(resolved), encoding="utf-8")
+    (inputs / DEFAULTS_FILE).write_text(dump_json({"defaults_used": defaults_used(project)}), encoding="utf-8")
     digests = {
         PROJECT_FILE: audit.sha256_file(project_file),
         f"weather/{weather_src.name}": audit.sha256_file(weather_src),

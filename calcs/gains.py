@@ -684,3 +684,52 @@ def peak_sensible_cooling_load(
         air=float(air[i]),
         hourly=pd.Series(load, index=labels, name="sensible_cooling_load"),
     )
+
+
+#: Out-of-hours fractions used when a zone gives no profile of its own.
+OUT_OF_HOURS_LIGHTING = Default(0.05, "-", _NO_SOURCE + " (5 % of lighting left on out of hours)")
+OUT_OF_HOURS_EQUIPMENT = Default(0.2, "-", _NO_SOURCE + " (20 % standby base load of small power)")
+
+
+def calendar_fractions(occupied, profile=None, out_of_hours=0.0) -> pd.Series:
+    """Hourly use fractions that follow a project's occupancy calendar.
+
+    Parameters
+    ----------
+    occupied : pandas.Series of bool
+        Occupied hours on an hourly index (see :func:`calcs.climate.occupied_hours`).
+    profile : sequence of 24 floats, optional
+        Fractions by hour of day (hour starting 00:00 … 23:00) on days that have
+        occupied hours [-]. None: 1 in occupied hours.
+    out_of_hours : float
+        Fraction in the hours the profile does not cover: every hour of an
+        unoccupied day, and (without a profile) the unoccupied hours of an
+        occupied day [-].
+
+    Returns
+    -------
+    pandas.Series
+        Fraction 0…1 on the index of ``occupied``, named "fraction".
+
+    Notes
+    -----
+    f(t) = profile[hour(t)] on occupied days, out_of_hours otherwise; without a
+    profile f(t) = 1 if occupied(t) else out_of_hours. A profile value lower
+    than ``out_of_hours`` is kept as given (the profile rules on occupied days).
+    """
+    if not isinstance(occupied, pd.Series) or not isinstance(occupied.index, pd.DatetimeIndex):
+        msg = f"occupied must be a pandas Series on an hourly DatetimeIndex, got {type(occupied).__name__}"
+        raise ProjectError(msg)
+    base = float(out_of_hours)
+    if not 0.0 <= base <= 1.0:
+        msg = f"out_of_hours must be between 0 and 1, got {out_of_hours!r}"
+        raise ProjectError(msg)
+    flags = occupied.to_numpy(dtype=bool)
+    if profile is None or len(profile) == 0:
+        values = np.where(flags, 1.0, base)
+    else:
+        shape = _profile("profile", profile)
+        day = occupied.index.normalize()
+        occupied_day = pd.Series(flags, index=occupied.index).groupby(day).transform("any").to_numpy()
+        values = np.where(occupied_day, shape[occupied.index.hour], base)
+    return pd.Series(values, index=occupied.index, name="fraction")

@@ -118,3 +118,35 @@ def show_png(data: bytes, alt: str) -> None:
     from IPython.display import display
 
     display({"image/png": base64.b64encode(data).decode("ascii"), "text/plain": alt}, raw=True)
+
+
+_ITEM_KEY = re.compile(r"\[('(?:[^'\\]|\\.)*'|\"(?:[^\"\\]|\\.)*\")\]")
+
+
+def defaults_frame(rows: Sequence[Mapping[str, str]]) -> pd.DataFrame:
+    """Defaults used, with the same default in several zones shown once and the zones listed.
+
+    ``rows`` are as from :func:`calcs.project.defaults_used`; a key such as
+    ``zones['north'].wall_u`` is shown as ``zones[].wall_u`` with "north" under "Where".
+    """
+    grouped: dict[tuple[str, str], dict[str, Any]] = {}
+    for row in rows:
+        labels = [m.group(1)[1:-1] for m in _ITEM_KEY.finditer(row["key"])]
+        generic = _ITEM_KEY.sub("[]", row["key"])
+        entry = grouped.setdefault((generic, row["value"]), {**row, "key": generic, "where": []})
+        if labels:
+            entry["where"].append(" / ".join(labels))
+    frame = pd.DataFrame(
+        [{**v, "where": ", ".join(v["where"]) or "project"} for v in grouped.values()],
+        columns=["key", "value", "unit", "where", "source"],
+    )
+    return frame.set_index("key")
+
+
+def show_defaults(rows: Sequence[Mapping[str, str]], caption: str) -> None:
+    """Show the defaults used (grouped by :func:`defaults_frame`), or say that none was used."""
+    if not rows:
+        show_markdown(f"{caption}: none — every value was given in the project file.")
+        return
+    show_table(defaults_frame(rows), caption=caption,
+               columns={"value": "Value", "unit": "Unit", "where": "Where", "source": "Source"}, index_label="Key")

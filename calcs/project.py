@@ -167,9 +167,195 @@ class Outdoor(_Section):
         return self
 
 
+MASS_CLASSES = ("very_light", "light", "medium", "heavy", "very_heavy")
+ACTIVITIES = ("seated_very_light", "office_moderately_active", "standing_light_or_walking", "seated_theatre_night")
+ARRANGEMENTS = ("single_sided", "single_sided_two_level", "cross", "stack")
+OPENING_TYPES = ("side_hung", "top_hung", "bottom_hung", "pivot", "sliding", "louvre", "vent", "rooflight")
+TERRAINS = ("open_flat_country", "scattered_windbreaks", "urban", "city")
+_NO_SOURCE = "common practice, no source"
+#: Names used in results.json beside the zone names, so not allowed as zone names.
+RESERVED_ZONE_NAMES = frozenset({"building", "method", "status", "zones"})
+
+
+class Shading(_Section):
+    overhang_depth_ratio: float = _f(0.0, meaning="Overhang projection ÷ window height (0 = none)", unit="-",
+                                     ge=0, le=10)
+    overhang_gap_ratio: float = _f(0.0, meaning="Gap from window head to overhang ÷ window height", unit="-",
+                                   ge=0, le=10)
+    fin_depth_ratio: float = _f(0.0, meaning="Side-fin projection ÷ window width, fins both sides (0 = none)",
+                                unit="-", ge=0, le=10)
+    monthly_factor: tuple[float, ...] = _f(
+        (), meaning="Instead of the geometry: 12 fixed shading factors, Jan–Dec (1 = unshaded)", unit="-"
+    )
+
+    @field_validator("monthly_factor")
+    @classmethod
+    def _twelve(cls, value: tuple[float, ...]) -> tuple[float, ...]:
+        if value and (len(value) != 12 or not all(0 <= v <= 1 for v in value)):
+            msg = f"must be 12 values between 0 and 1 (got {len(value)} values)"
+            raise ValueError(msg)
+        return value
+
+
+class Facade(_Section):
+    name: str = _f(meaning="Façade name, unique in the zone (openings refer to it)", min_length=1, max_length=40)
+    azimuth: float = _f(meaning="Direction the façade faces, clockwise from north (180 = south)", unit="°",
+                        ge=0, lt=360)
+    length: float | None = _f(None, meaning="Façade length; area = length × ceiling_height (give length or area)",
+                              unit="m", gt=0, le=10000)
+    area: float | None = _f(None, meaning="Gross external wall area of the zone on this façade", unit="m²",
+                            gt=0, le=1e6)
+    window_to_wall_ratio: float = _f(0.4, meaning="Glazed share of the façade area", unit="-", ge=0, le=1,
+                                     source="design assumption, no published source")
+    shading: Shading = _f(Shading(), meaning="External shading of this façade's windows")
+
+    @model_validator(mode="after")
+    def _one_size(self) -> "Facade":
+        if (self.length is None) == (self.area is None):
+            msg = "give exactly one of length (m) or area (m²)"
+            raise ValueError(msg)
+        return self
+
+
+class Opening(_Section):
+    name: str = _f(meaning="Opening name, unique in the zone", min_length=1, max_length=40)
+    facade: str = _f(meaning="Façade it is in (a façade name of this zone), or 'roof' for a rooflight or stack outlet")
+    free_area: float = _f(meaning="Free (effective) area of one opening when fully open", unit="m²", gt=0, le=1000)
+    count: int = _f(1, meaning="Number of identical openings", ge=1, le=10000)
+    type: Literal["side_hung", "top_hung", "bottom_hung", "pivot", "sliding", "louvre", "vent", "rooflight"] = _f(
+        "top_hung", meaning="Kind of opening"
+    )
+    discharge_coefficient: float = _f(0.61, meaning="Discharge coefficient Cd", unit="-", gt=0, le=1,
+                                      source="sharp-edged orifice 0.61, BS 5925:1991 [from memory]")
+    sill_height: float = _f(1.0, meaning="Height of the bottom of the opening above floor", unit="m", ge=0, le=100)
+    height: float = _f(1.0, meaning="Height of the opening (top minus bottom)", unit="m", gt=0, le=20)
+    secure: bool = _f(False, meaning="Safe to leave open when the building is empty (for night cooling)")
+
+
 class Zone(_Section):
     name: str = _f(meaning="Zone name, unique in the project", min_length=1, max_length=80)
     floor_area: float = _f(meaning="Net occupiable floor area", unit="m²", gt=0, le=1e6)
+    ceiling_height: float = _f(2.8, meaning="Floor-to-ceiling height", unit="m", gt=1.5, le=30,
+                               source="design assumption, no published source")
+    plan_depth: float = _f(
+        6.0, meaning="Plan depth: from the openable façade (single-sided) or between façades (cross) or to the stack",
+        unit="m", gt=0, le=1000, source="design assumption, no published source",
+    )
+    height_above_ground: float = _f(5.0, meaning="Height of the zone's openings above ground (for wind speed)",
+                                    unit="m", gt=0, le=500)
+    ventilation: Literal["single_sided", "single_sided_two_level", "cross", "stack"] = _f(
+        "single_sided", meaning="Natural-ventilation arrangement of the zone"
+    )
+    stack_height: float = _f(
+        0.0, meaning="Vertical distance between the centres of inlet and outlet openings (stack, two-level, cross)",
+        unit="m", ge=0, le=300,
+    )
+    mass_class: Literal["very_light", "light", "medium", "heavy", "very_heavy"] = _f(
+        "medium", meaning="Thermal mass class", source="ISO 13790:2008 Table 12 classes"
+    )
+    wall_u: float = _f(0.26, meaning="U-value of the opaque external walls", unit="W/m²K", gt=0, le=6,
+                       source="design assumption (typical new-build wall), no published source")
+    glazing_u: float = _f(1.4, meaning="U-value of the windows (glass and frame)", unit="W/m²K", gt=0, le=7,
+                          source="design assumption (double glazing), no published source")
+    g_value: float = _f(0.4, meaning="Total solar energy transmittance of the glass at normal incidence", unit="-",
+                        gt=0, le=1, source="design assumption (solar-control double glazing), no published source")
+    frame_fraction: float = _f(0.3, meaning="Frame share of the window area", unit="-", ge=0, lt=1,
+                               source="ISO 13790:2008 §11.4.5 [from memory]")
+    roof_area: float = _f(0.0, meaning="Exposed roof area above the zone", unit="m²", ge=0, le=1e6)
+    roof_u: float = _f(0.18, meaning="U-value of the roof", unit="W/m²K", gt=0, le=6,
+                       source="design assumption, no published source")
+    infiltration_ach: float = _f(0.3, meaning="Infiltration with windows closed", unit="1/h", ge=0, le=10,
+                                 source="design assumption, no published source")
+    people_density: float = _f(10.0, meaning="Floor area per person at full occupancy", unit="m²/person",
+                               gt=0.5, le=1000, source="UK office design density 10 m²/person [from memory]")
+    activity: Literal["seated_very_light", "office_moderately_active", "standing_light_or_walking",
+                      "seated_theatre_night"] = _f(
+        "seated_very_light", meaning="Occupant activity (sets heat per person)",
+        source="ASHRAE Handbook—Fundamentals 2009/2013 ch.18 Table 1",
+    )
+    lighting: float = _f(8.0, meaning="Lighting heat gain at full use", unit="W/m²", ge=0, le=100,
+                         source="LED office 6–10 W/m² [from memory]")
+    equipment: float = _f(15.0, meaning="Equipment (small power) heat gain at full use", unit="W/m²", ge=0, le=200,
+                          source="UK NCM open-plan office 15 W/m²")
+    occupancy_profile: tuple[float, ...] = _f(
+        (), meaning="24 hourly fractions of full occupancy on occupied days (default: 1 in occupied hours)", unit="-"
+    )
+    lighting_profile: tuple[float, ...] = _f(
+        (), meaning="24 hourly fractions of full lighting on occupied days (default: 1 occupied, 0.05 otherwise)",
+        unit="-", source=_NO_SOURCE,
+    )
+    equipment_profile: tuple[float, ...] = _f(
+        (), meaning="24 hourly fractions of full equipment on occupied days (default: 1 occupied, 0.2 otherwise)",
+        unit="-", source=_NO_SOURCE,
+    )
+    facades: tuple[Facade, ...] = _f((), meaning="External façades of the zone")
+    openings: tuple[Opening, ...] = _f((), meaning="Openable windows and vents of the zone")
+
+    @field_validator("name")
+    @classmethod
+    def _not_reserved(cls, value: str) -> str:
+        if value.strip().lower() in RESERVED_ZONE_NAMES:
+            msg = f"'{value}' is reserved in results.json; choose another zone name (reserved: {sorted(RESERVED_ZONE_NAMES)})"
+            raise ValueError(msg)
+        return value
+
+    @field_validator("occupancy_profile", "lighting_profile", "equipment_profile")
+    @classmethod
+    def _profile(cls, value: tuple[float, ...]) -> tuple[float, ...]:
+        if value and (len(value) != 24 or not all(0 <= v <= 1 for v in value)):
+            msg = f"must be 24 hourly values between 0 and 1 (got {len(value)} values)"
+            raise ValueError(msg)
+        return value
+
+    @model_validator(mode="after")
+    def _references(self) -> "Zone":
+        names = [f.name for f in self.facades]
+        if len(set(names)) != len(names):
+            msg = f"façade names must be unique in the zone (got {names})"
+            raise ValueError(msg)
+        opening_names = [o.name for o in self.openings]
+        if len(set(opening_names)) != len(opening_names):
+            msg = f"opening names must be unique in the zone (got {opening_names})"
+            raise ValueError(msg)
+        for opening in self.openings:
+            if opening.facade != "roof" and opening.facade not in names:
+                msg = (f"opening '{opening.name}' is on façade '{opening.facade}', which the zone does not have "
+                       f"(façades: {', '.join(names) or 'none'}; or 'roof')")
+                raise ValueError(msg)
+        if self.ventilation in ("stack", "single_sided_two_level") and self.stack_height <= 0:
+            msg = f"ventilation '{self.ventilation}' needs stack_height > 0 m (vertical distance inlet to outlet)"
+            raise ValueError(msg)
+        return self
+
+    def facade_area(self, facade: Facade) -> float:
+        """Gross wall area of a façade [m²]."""
+        return facade.area if facade.area is not None else facade.length * self.ceiling_height
+
+
+class Sizing(_Section):
+    indoor_limit: float = _f(26.0, meaning="Indoor temperature the openings must hold at the design condition",
+                             unit="°C", ge=18, le=35, source=_NO_SOURCE)
+    delta_t: float = _f(3.0, meaning="Indoor-minus-outdoor temperature difference at the design condition",
+                        unit="K", gt=0, le=15, source=_NO_SOURCE)
+    fresh_air_method: Literal["ashrae62", "en16798"] = _f(
+        "ashrae62", meaning="Fresh-air rate: ASHRAE 62.1 office rates or an EN 16798-1 category"
+    )
+    en16798_category: Literal["I", "II", "III", "IV"] = _f("II", meaning="EN 16798-1 category (if chosen)")
+    en16798_building: Literal["very_low", "low", "not_low"] = _f(
+        "low", meaning="EN 16798-1 building pollution level (if chosen)"
+    )
+    code_min_free_area_pct: float = _f(
+        5.0, meaning="Code minimum openable area as a share of floor area, project-set", unit="%", ge=0, le=100,
+        source="project-set; 5 % is used by some codes [from memory]; check the code that applies",
+    )
+    terrain: Literal["open_flat_country", "scattered_windbreaks", "urban", "city"] = _f(
+        "urban", meaning="Terrain around the building, for wind speed at the openings' height",
+        source="BS 5925:1991 terrain categories [from memory]",
+    )
+    cp_windward: float = _f(0.5, meaning="Wind pressure coefficient, windward façade", unit="-", ge=-2, le=2,
+                            source="design values +0.5 to +0.7 [from memory]")
+    cp_leeward: float = _f(-0.3, meaning="Wind pressure coefficient, leeward façade", unit="-", ge=-2, le=2,
+                           source="design values −0.2 to −0.4 [from memory]")
 
 
 class Decision(_Section):
@@ -202,6 +388,7 @@ class Project(_Section):
     site: Site
     occupancy: Occupancy = _f(Occupancy(), meaning="When the building is occupied")
     outdoor: Outdoor = _f(Outdoor(), meaning="Outdoor conditions under which windows may open")
+    sizing: Sizing = _f(Sizing(), meaning="Design condition and rules for sizing the openings")
     zones: tuple[Zone, ...] = _f(meaning="Zones of the building (at least one)", min_length=1)
     decisions: tuple[Decision, ...] = _f((), meaning="Decision log")
     signoff: SignOff = _f(SignOff(), meaning="Sign-off block as written in the project file")
@@ -495,3 +682,37 @@ def flatten(model: BaseModel, prefix: str = "") -> list[tuple[str, str]]:
 
     walk(data, prefix)
     return out
+
+
+DEFAULTS_FILE = "defaults_used.json"
+
+
+def defaults_used(project: Project) -> list[dict[str, str]]:
+    """Every value the project file left to its default: key path, value, unit and source.
+
+    Uses pydantic's record of which fields were given, so it must be called on a
+    project validated from the user's file (a build stores the list in
+    ``inputs/defaults_used.json`` because the resolved copy sets every key).
+    """
+    rows: list[dict[str, str]] = []
+
+    def walk(model: BaseModel, prefix: str) -> None:
+        for name, field in type(model).model_fields.items():
+            value = getattr(model, name)
+            key = f"{prefix}{name}"
+            if isinstance(value, BaseModel):
+                walk(value, f"{key}.")
+            elif isinstance(value, tuple) and value and all(isinstance(v, BaseModel) for v in value):
+                for item in value:
+                    label = getattr(item, "name", getattr(item, "id", "?"))
+                    walk(item, f"{key}[{label!r}].")
+            elif name not in model.model_fields_set and not field.is_required():
+                extra = field.json_schema_extra or {}
+                if value in ((), None, ""):
+                    continue  # an empty optional list or text is no assumption
+                rows.append({"key": key, "value": json.dumps(value, ensure_ascii=False, default=str),
+                             "unit": extra.get("unit", ""), "meaning": field.description or "",
+                             "source": extra.get("source", "") or "freerun default"})
+
+    walk(project, "")
+    return rows

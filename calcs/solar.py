@@ -651,3 +651,81 @@ def glazing_solar_gain(
     if gain.ndim == 0:
         return float(gain)
     return _wrap(gain, like, "solar_gain")
+
+
+def facade_solar_gain(
+    index,
+    ghi,
+    dni,
+    dhi,
+    solar_pos,
+    *,
+    surface_azimuth,
+    window_area,
+    g_value,
+    frame_fraction=FRAME_FRACTION_DEFAULT,
+    overhang_depth_ratio=0.0,
+    overhang_gap_ratio=0.0,
+    fin_depth_ratio=0.0,
+    monthly_factor=None,
+    model="perez",
+    albedo=ALBEDO_DEFAULT,
+) -> pd.DataFrame:
+    """Hourly solar heat gain through the windows of one vertical façade.
+
+    Parameters
+    ----------
+    index : pandas.DatetimeIndex
+        Hour-start timestamps (local standard time).
+    ghi, dni, dhi : array_like or pandas.Series
+        Weather-file irradiance [W m⁻²].
+    solar_pos : pandas.DataFrame
+        From :func:`solar_position`.
+    surface_azimuth : float
+        Direction the façade faces, clockwise from north [°].
+    window_area : float
+        Total window area of the façade, glass and frame [m²].
+    g_value : float
+        Glass g-value at normal incidence [-].
+    frame_fraction : float
+        Frame share of the window area [-].
+    overhang_depth_ratio, overhang_gap_ratio, fin_depth_ratio : float
+        External shading geometry (see :func:`overhang_fin_shading`) [-].
+    monthly_factor : sequence of 12 floats, optional
+        Fixed shading factors by month; when given they replace the geometry [-].
+    model : str
+        Sky-diffuse model for the transposition (see :data:`SKY_DIFFUSE_MODELS`).
+    albedo : float
+        Ground reflectance [-].
+
+    Returns
+    -------
+    pandas.DataFrame
+        On ``index``: ``solar_gain`` [W], ``poa_global`` (unshaded) [W m⁻²],
+        ``sunlit_fraction`` and ``diffuse_factor`` [-]; ``attrs["sky_model"]``
+        names the transposition model.
+
+    Notes
+    -----
+    Φ = A·(1 − F_F)·F_w·g⊥·(F_sun·I_dir + F_dif·I_dif) (see :func:`glazing_solar_gain`),
+    with F_sun and F_dif from the overhang/fin geometry each hour, or
+    F_sun = F_dif = the month's fixed factor.
+    """
+    poa = facade_irradiance(index, ghi, dni, dhi, solar_pos, surface_azimuth, 90.0, albedo, model)
+    if monthly_factor is not None and len(monthly_factor) > 0:
+        fixed = monthly_shading_factor(index, monthly_factor).to_numpy()
+        sunlit, diffuse = fixed, fixed
+    else:
+        shade = overhang_fin_shading(solar_pos, surface_azimuth, overhang_depth_ratio, overhang_gap_ratio,
+                                     fin_depth_ratio)
+        sunlit = shade["sunlit_fraction"].to_numpy()
+        diffuse = np.asarray(diffuse_shading_factor(poa["poa_sky_diffuse"], poa["poa_ground"],
+                                                    shade["sky_diffuse_factor"], shade["ground_diffuse_factor"]),
+                             dtype=float)
+    gain = glazing_solar_gain(poa["poa_direct"].to_numpy(), poa["poa_diffuse"].to_numpy(), window_area, g_value,
+                              sunlit, diffuse, frame_fraction)
+    out = pd.DataFrame({"solar_gain": np.asarray(gain, dtype=float), "poa_global": poa["poa_global"].to_numpy(),
+                        "sunlit_fraction": sunlit, "diffuse_factor": diffuse}, index=poa.index)
+    out.attrs["sky_model"] = poa.attrs.get("sky_model", model)
+    out.attrs["sky_model_source"] = poa.attrs.get("sky_model_source", "")
+    return out

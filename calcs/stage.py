@@ -24,7 +24,7 @@ import pandas as pd
 
 from .errors import StageError
 from .paths import STAGES, stage_dir, stage_template
-from .project import Project, load_project
+from .project import DEFAULTS_FILE, Project, defaults_used, load_project
 
 RESULTS_FILE = "results.json"
 
@@ -59,6 +59,13 @@ class Stage:
 
         site = self.project.site
         return read_weather(self.weather_path(), year=self.project.occupancy.calendar_year, leap_day=site.leap_day)
+
+    def defaults_used(self) -> list[dict[str, str]]:
+        """Values the project file left to defaults (key, value, unit, meaning, source)."""
+        recorded = self.project_dir / DEFAULTS_FILE
+        if recorded.is_file():
+            return json.loads(recorded.read_text(encoding="utf-8"))["defaults_used"]
+        return defaults_used(self.project)
 
     def upstream(self, stage: str) -> Path:
         """Output folder of an earlier stage, running it first if it has no results yet."""

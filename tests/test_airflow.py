@@ -634,3 +634,44 @@ def test_series_with_different_indexes_rejected():
 def test_bad_arguments_raise_project_error(call, pattern):
     with pytest.raises(ProjectError, match=pattern):
         call()
+
+
+# ---------------------------------------------------------------- a zone's openings by arrangement
+
+ZONE_CASE = dict(temp_in=26.0, temp_air=23.0, opening_height=1.2, stack_height=2.0)
+
+
+@pytest.mark.parametrize(
+    ("arrangement", "wind_met", "wind_building", "expected"),
+    [
+        # BS 5925 Fig. 8(f) [MEM formula]: 0.61·10/3·√(9.81·1.2·3/297.65) = 0.7004 (still air: stack wins)
+        ("single_sided", 0.0, 0.0, 0.61 * 10 / 3 * np.sqrt(9.81 * 1.2 * 3 / 297.65)),
+        # Warren & Parkins 1984 [DOC via REFERENCES §5.7]: 0.025·10·4 = 1.0 (wind wins over 0.70)
+        ("single_sided", 4.0, 3.0, 0.025 * 10 * 4),
+        # BS 5925 Fig. 8(b) with 5 + 5 m²: A_b = 1/√(1/25 + 1/25); 0.61·A_b·√(2·3·9.81·2/297.65)
+        ("stack", 4.0, 3.0, 0.61 / np.sqrt(2 / 25) * np.sqrt(2 * 3 * 9.81 * 2 / 297.65)),
+        # BS 5925 Fig. 8(a), windward 5 m², leeward 5 m², ΔCp 0.8: 0.61·A_w·3·√0.8 (wind wins over stack)
+        ("cross", 4.0, 3.0, 0.61 / np.sqrt(2 / 25) * 3 * np.sqrt(0.8)),
+        # still air, cross with a stack height: the stack branch of Fig. 8(c) alone
+        ("cross", 0.0, 0.0, 0.61 / np.sqrt(2 / 25) * np.sqrt(2 * 3 * 9.81 * 2 / 297.65)),
+    ],
+)
+def test_arrangement_flow_hand_cases(arrangement, wind_met, wind_building, expected):
+    got = af.arrangement_flow(arrangement, 10.0, wind_speed_met=wind_met, wind_speed_building=wind_building,
+                              **ZONE_CASE)
+    assert_allclose(got, expected, rtol=1e-3)
+
+
+@pytest.mark.parametrize("arrangement", sorted(af.ARRANGEMENT_METHODS))
+def test_arrangement_flow_is_linear_in_area_and_keeps_index(arrangement):
+    wind = pd.Series([0.0, 2.0, 5.0], index=pd.date_range("2026-07-01", periods=3, freq="h"))
+    one = af.arrangement_flow(arrangement, 1.0, wind_speed_met=wind, wind_speed_building=wind * 0.7, **ZONE_CASE)
+    ten = af.arrangement_flow(arrangement, 10.0, wind_speed_met=wind, wind_speed_building=wind * 0.7, **ZONE_CASE)
+    assert isinstance(ten, pd.Series) and ten.index.equals(wind.index)
+    assert_allclose(ten.to_numpy(), 10 * one.to_numpy(), rtol=1e-12)
+    assert (np.diff(ten.to_numpy()) >= -1e-12).all()  # more wind never reduces the flow
+
+
+def test_arrangement_flow_unknown_arrangement():
+    with pytest.raises(ProjectError, match="arrangement must be one of"):
+        af.arrangement_flow("chimney", 1.0, wind_speed_met=1.0, wind_speed_building=1.0, **ZONE_CASE)

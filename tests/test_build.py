@@ -60,7 +60,7 @@ def test_demo_report_sections_and_cautions(demo_build):
         assert caution in text, caution
     assert "Status: DRAFT" in text
     assert "invented" in text  # the demo says it is invented
-    assert text.count("Not yet calculated.") == 4  # loads, openings, comfort, energy say so plainly
+    assert text.count("Not yet calculated.") == 2  # comfort and energy say so plainly
 
 
 def test_demo_report_is_self_contained(demo_build):
@@ -68,7 +68,7 @@ def test_demo_report_is_self_contained(demo_build):
     assert "<script" not in page.lower()
     assert not re.search(r"""(src|href)\s*=\s*["']?https?:""", page, re.I)
     assert "<link" not in page.lower()
-    assert page.count('src="data:image/png;base64,') == 3  # the three climate charts
+    assert page.count('src="data:image/png;base64,') == 7  # 3 climate, 2 loads, 2 openings charts
     assert "Traceback" not in page and "stderr" not in page
 
 
@@ -81,7 +81,7 @@ def test_demo_results_keys_and_report_numbers(demo_build):
     assert len(climate["monthly_mean_C"]) == 12
     assert climate["band_C"] == [16.0, 26.0]
     assert 0 <= climate["occupied_nv_suitable_pct"] <= climate["occupied_in_band_pct"] <= 100
-    for stage in ("loads", "openings", "comfort", "energy"):
+    for stage in ("comfort", "energy"):
         assert results[stage] == {"status": "not yet calculated"}
     text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
     assert f"{climate['occupied_nv_suitable_pct']:.1f} % of the {climate['occupied_hours']:,} occupied hours" in text
@@ -237,3 +237,43 @@ def test_default_output_folder(make_project, tmp_path, capsys, monkeypatch):
     assert out.strip().endswith("build/TEST-1/P01/report.html")
     assert np.isfinite(json.loads((tmp_path / "build" / "TEST-1" / "P01" / "results.json").read_text())["climate"]
                        ["annual_mean_C"])
+
+
+def test_loads_and_openings_results_against_published_rates(public_builds):
+    """Defaults of a zone without façades: ASHRAE people gains and ASHRAE 62.1 office rates, by hand."""
+    results = json.loads((public_builds["a"] / "results.json").read_text(encoding="utf-8"))
+    n_occ = results["climate"]["occupied_hours"]
+    n_out = results["climate"]["hours"] - n_occ
+    for zone, area in (("<b>north</b>", 400.0), ("south", 200.0)):
+        loads, openings = results["loads"][zone], results["openings"][zone]
+        people = area / 10.0  # 10 m² per person (default density)
+        # ASHRAE Fundamentals ch.18 Table 1: 70 W sensible per person, seated very light work;
+        # lighting 8 W/m² (0.05 out of hours), equipment 15 W/m² (0.2 out of hours)
+        expected = (70 * people * n_occ + 8 * area * (n_occ + 0.05 * n_out) + 15 * area * (n_occ + 0.2 * n_out)) / 1000
+        assert_allclose(loads["annual_internal_gains_kWh"], expected, rtol=1e-9)
+        assert loads["annual_solar_gains_kWh"] == 0.0  # no façades given
+        # ASHRAE 62.1 Table 6.2.2.1 office: 2.5 L/s per person + 0.3 L/s per m²
+        assert_allclose(openings["fresh_air_L_s"], 2.5 * people + 0.3 * area, rtol=1e-12)
+        # steady CO2 rise: 0.0052 L/s per person / fresh air per person
+        assert_allclose(openings["co2_rise_ppm"], 0.0052 / ((2.5 * people + 0.3 * area) / people) * 1e6, rtol=1e-9)
+        assert openings["provided_free_area_m2"] == 0.0 and openings["area_ok"] is False
+        assert openings["free_area_pct_floor"] == 0.0
+        # default plan depth 6 m, single-sided limit 2 × 2.8 m = 5.6 m (CIBSE AM10 [MEM]): fails
+        assert openings["depth_ok"] is False
+
+
+def test_demo_loads_and_openings_keys_and_report(demo_build):
+    results = json.loads((demo_build / "results.json").read_text(encoding="utf-8"))
+    text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
+    for zone in ("Level 1 north", "Level 1 south", "Level 2 open plan"):
+        for key in ("peak_sensible_W", "annual_internal_gains_kWh", "annual_solar_gains_kWh"):
+            assert isinstance(results["loads"][zone][key], float), (zone, key)
+        for key in ("fresh_air_L_s", "required_free_area_m2", "provided_free_area_m2", "free_area_pct_floor"):
+            assert isinstance(results["openings"][zone][key], float), (zone, key)
+        assert isinstance(results["openings"][zone]["depth_ok"], bool)
+        assert results["loads"][zone]["annual_solar_gains_kWh"] > 0
+        assert f"{results['openings'][zone]['provided_free_area_m2']:.1f}" in text
+    # the demo's north zone: 6.5 m deep, single-sided, 2.9 m ceiling: 6.5 > 2 × 2.9 (CIBSE AM10 [MEM])
+    assert results["openings"]["Level 1 north"]["depth_ok"] is False
+    assert "Heat gains and loads" in text and "Airflow needed and free area" in text
+    assert "Openings are more than airflow" in text

@@ -78,6 +78,15 @@ PROJECT_CASES = {
     "utc offset mismatch": (_set(["site", "utc_offset"], 0.0), "does not match the weather file"),
     "band inverted": (_set(["outdoor", "band_low"], 30.0), "must be above band_low"),
     "unknown leap-day option": (_set(["site", "leap_day"], "maybe"), "site.leap_day = 'maybe'"),
+    "window-to-wall ratio above 1": (
+        _set(["zones", "0", "facades"], [{"name": "n", "azimuth": 0.0, "length": 10.0, "window_to_wall_ratio": 1.2}]),
+        "zones['north'].facades['n'].window_to_wall_ratio = 1.2"),
+    "opening on a missing façade": (
+        _set(["zones", "0", "openings"], [{"name": "w1", "facade": "east", "free_area": 1.0}]),
+        "opening 'w1' is on façade 'east', which the zone does not have"),
+    "unknown mass class": (_set(["zones", "0", "mass_class"], "massive"), "zones['north'].mass_class = 'massive'"),
+    "stack without height": (_set(["zones", "0", "ventilation"], "stack"), "needs stack_height > 0 m"),
+    "reserved zone name": (_set(["zones", "1", "name"], "building"), "'building' is reserved"),
 }
 
 WEATHER_CASES = {

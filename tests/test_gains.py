@@ -342,3 +342,37 @@ def test_peak_cooling_load_bad(change, word):
             "temp_air": [20.0, 25.0, 30.0], "fabric_htc": 10.0, "air_htc": 5.0} | change
     with pytest.raises(ProjectError, match=word):
         gains.peak_sensible_cooling_load(**args)
+
+
+# ---------------------------------------------------------------- schedules from the occupancy calendar
+
+
+def _week_calendar():
+    """Mon 2026-01-05 … Sun 2026-01-11, occupied Mon–Fri 08:00–18:00 (hand-made calendar)."""
+    index = pd.date_range("2026-01-05", periods=7 * 24, freq="h")
+    occupied = pd.Series((index.day_of_week < 5) & (index.hour >= 8) & (index.hour < 18), index=index)
+    return index, occupied
+
+
+def test_calendar_fractions_follow_occupied_hours():
+    index, occupied = _week_calendar()
+    f = gains.calendar_fractions(occupied, out_of_hours=0.05)
+    # hand count: 5 days × 10 h at 1, the other 118 h at 0.05
+    assert_allclose(f.sum(), 50 + 118 * 0.05, rtol=1e-12)
+    assert f.index.equals(index)
+
+
+def test_calendar_fractions_profile_on_occupied_days_only():
+    index, occupied = _week_calendar()
+    profile = [0.0] * 7 + [0.5] + [1.0] * 10 + [0.5] + [0.0] * 5
+    f = gains.calendar_fractions(occupied, profile, out_of_hours=0.2)
+    # weekdays: the profile sums to 11.0 per day; weekend: 48 h at 0.2
+    assert_allclose(f.sum(), 5 * 11.0 + 48 * 0.2, rtol=1e-12)
+    assert f["2026-01-10 12:00"] == 0.2 and f["2026-01-05 07:00"] == 0.5
+
+
+@pytest.mark.parametrize(("profile", "base"), [([1.0] * 23, 0.0), ([1.5] * 24, 0.0), (None, 1.5)])
+def test_calendar_fractions_bad_arguments(profile, base):
+    _, occupied = _week_calendar()
+    with pytest.raises(ProjectError):
+        gains.calendar_fractions(occupied, profile, out_of_hours=base)

@@ -456,3 +456,36 @@ def test_glazing_solar_gain_bad(change, word):
     args = {"poa_direct": 500.0, "poa_diffuse": 100.0, "window_area": 2.0, "g_value": 0.6} | change
     with pytest.raises(ProjectError, match=word):
         solar.glazing_solar_gain(**args)
+
+
+# ---------------------------------------------------------------- one façade's solar gain
+
+
+def test_facade_solar_gain_composes_the_published_steps(tmy):
+    """Gain of a shaded south façade = glazing_solar_gain on pvlib's transposition with the geometry factors."""
+    w, pos, index = tmy["weather"], tmy["pos"], tmy["index"]
+    got = solar.facade_solar_gain(index, w["ghi"], w["dni"], w["dhi"], pos, surface_azimuth=180.0,
+                                  window_area=10.0, g_value=0.5, overhang_depth_ratio=0.5)
+    poa = solar.facade_irradiance(index, w["ghi"], w["dni"], w["dhi"], pos, 180.0)
+    shade = solar.overhang_fin_shading(pos, 180.0, 0.5)
+    f_dif = solar.diffuse_shading_factor(poa["poa_sky_diffuse"], poa["poa_ground"],
+                                         shade["sky_diffuse_factor"], shade["ground_diffuse_factor"])
+    # ISO 13790 §11.3 form [MEM]: A·(1 − 0.3)·0.9·g·(F_sun·I_dir + F_dif·I_dif)
+    expected = 10.0 * 0.7 * 0.9 * 0.5 * (shade["sunlit_fraction"] * poa["poa_direct"] + f_dif * poa["poa_diffuse"])
+    assert_allclose(got["solar_gain"].to_numpy(), expected.to_numpy(), atol=1e-9)
+    assert got.attrs["sky_model"] == "perez"
+    unshaded = solar.facade_solar_gain(index, w["ghi"], w["dni"], w["dhi"], pos, surface_azimuth=180.0,
+                                       window_area=10.0, g_value=0.5)
+    assert (got["solar_gain"] <= unshaded["solar_gain"] + 1e-9).all()  # an overhang never adds gain
+    assert got["solar_gain"].sum() < 0.95 * unshaded["solar_gain"].sum()
+
+
+def test_facade_solar_gain_monthly_factor_scales_unshaded(tmy):
+    w, pos, index = tmy["weather"], tmy["pos"], tmy["index"]
+    factors = [0.5] * 6 + [0.8] * 6
+    got = solar.facade_solar_gain(index, w["ghi"], w["dni"], w["dhi"], pos, surface_azimuth=90.0,
+                                  window_area=4.0, g_value=0.6, monthly_factor=factors)
+    bare = solar.facade_solar_gain(index, w["ghi"], w["dni"], w["dhi"], pos, surface_azimuth=90.0,
+                                   window_area=4.0, g_value=0.6)
+    month_factor = np.where(index.month <= 6, 0.5, 0.8)
+    assert_allclose(got["solar_gain"].to_numpy(), bare["solar_gain"].to_numpy() * month_factor, atol=1e-9)
