@@ -381,6 +381,59 @@ class SignOff(_Section):
     approved: Signature = _f(Signature(), meaning="Approved by")
 
 
+CRITERIA_NAMES = ("outdoor_band", "fixed_indoor", "ashrae55_80", "ashrae55_90", "ashrae55_80_fans",
+                  "en16798_cat1", "en16798_cat2", "en16798_cat3")
+
+
+class Operation(_Section):
+    changeover_criterion: Literal["outdoor_band", "fixed_indoor", "ashrae55_80", "ashrae55_90", "ashrae55_80_fans",
+                                  "en16798_cat1", "en16798_cat2", "en16798_cat3"] = _f(
+        "en16798_cat2", meaning="Comfort criterion natural ventilation must hold; air-conditioning takes over when it fails"
+    )
+    dead_band: float = _f(1.0, meaning="Back to natural ventilation only this far inside the criterion's limits",
+                          unit="K", ge=0, le=5, source=_NO_SOURCE)
+    air_speed: float = _f(0.1, meaning="Indoor air speed without ceiling fans", unit="m/s", ge=0, le=0.3,
+                          source="still air, ASHRAE 55 / EN 16798-1 check cases use 0.1 m/s")
+    fixed_indoor_low: float = _f(20.0, meaning="Lower end of the fixed indoor band criterion", unit="°C", ge=10, le=30,
+                                 source=_NO_SOURCE + " (typical of air-conditioned design)")
+    fixed_indoor_high: float = _f(24.0, meaning="Upper end of the fixed indoor band criterion", unit="°C", ge=15,
+                                  le=35, source=_NO_SOURCE + " (typical of air-conditioned design)")
+    nv_low_setpoint: float = _f(21.0, meaning="In natural ventilation, windows throttle and close below this indoor "
+                                "air temperature", unit="°C", ge=10, le=30, source="design assumption, no published source")
+    control_band: float = _f(2.0, meaning="Windows fully open this far above nv_low_setpoint", unit="K", gt=0, le=10,
+                             source="design assumption, no published source")
+    ceiling_fans: bool = _f(False, meaning="Ceiling fans run in occupied natural-ventilation hours")
+    fan_air_speed: float = _f(0.9, meaning="Air speed at the occupants with the ceiling fans running", unit="m/s",
+                              gt=0.2, le=1.5, source="design assumption; ASHRAE 55 steps at 0.6 / 0.9 / 1.2 m/s")
+    fan_power: float = _f(2.0, meaning="Electrical power of the ceiling fans while running (also a heat gain)",
+                          unit="W/m²", ge=0, le=20, source="design assumption, no published source")
+    night_purge: bool = _f(False, meaning="Open secure openings at night to cool the thermal mass")
+    night_purge_start: str = _f("22:00", meaning="Earliest hour for night cooling (HH:00)")
+    night_purge_end: str = _f("07:00", meaning="Latest hour for night cooling, exclusive (HH:00)")
+    night_purge_min_outdoor: float = _f(12.0, meaning="No night cooling with outdoor air colder than this",
+                                        unit="°C", ge=-10, le=30, source="design assumption, no published source")
+    night_purge_low_setpoint: float = _f(19.0, meaning="Night cooling throttles and stops below this indoor "
+                                         "temperature", unit="°C", ge=10, le=28,
+                                         source="design assumption, no published source")
+    tm52_category: Literal["I", "II", "III"] = _f("II", meaning="CIBSE TM52 building category",
+                                                  source="CIBSE TM52:2013 (category II for new buildings)")
+
+    @field_validator("night_purge_start", "night_purge_end")
+    @classmethod
+    def _clock(cls, value: str) -> str:
+        if not _CLOCK.match(value) or value == "24:00":
+            msg = "must be a whole hour written HH:00, from 00:00 to 23:00"
+            raise ValueError(msg)
+        return value
+
+    @model_validator(mode="after")
+    def _order(self) -> "Operation":
+        if self.fixed_indoor_high <= self.fixed_indoor_low:
+            msg = f"fixed_indoor_high ({self.fixed_indoor_high}) must be above fixed_indoor_low ({self.fixed_indoor_low})"
+            raise ValueError(msg)
+        return self
+
+
 class Project(_Section):
     """The whole project file."""
 
@@ -389,6 +442,7 @@ class Project(_Section):
     occupancy: Occupancy = _f(Occupancy(), meaning="When the building is occupied")
     outdoor: Outdoor = _f(Outdoor(), meaning="Outdoor conditions under which windows may open")
     sizing: Sizing = _f(Sizing(), meaning="Design condition and rules for sizing the openings")
+    operation: Operation = _f(Operation(), meaning="How the building runs in mixed mode")
     zones: tuple[Zone, ...] = _f(meaning="Zones of the building (at least one)", min_length=1)
     decisions: tuple[Decision, ...] = _f((), meaning="Decision log")
     signoff: SignOff = _f(SignOff(), meaning="Sign-off block as written in the project file")

@@ -60,7 +60,7 @@ def test_demo_report_sections_and_cautions(demo_build):
         assert caution in text, caution
     assert "Status: DRAFT" in text
     assert "invented" in text  # the demo says it is invented
-    assert text.count("Not yet calculated.") == 2  # comfort and energy say so plainly
+    assert text.count("Not yet calculated.") == 1  # energy says so plainly
 
 
 def test_demo_report_is_self_contained(demo_build):
@@ -68,7 +68,7 @@ def test_demo_report_is_self_contained(demo_build):
     assert "<script" not in page.lower()
     assert not re.search(r"""(src|href)\s*=\s*["']?https?:""", page, re.I)
     assert "<link" not in page.lower()
-    assert page.count('src="data:image/png;base64,') == 7  # 3 climate, 2 loads, 2 openings charts
+    assert page.count('src="data:image/png;base64,') == 10  # 3 climate, 2 loads, 2 openings, 3 comfort charts
     assert "Traceback" not in page and "stderr" not in page
 
 
@@ -81,7 +81,7 @@ def test_demo_results_keys_and_report_numbers(demo_build):
     assert len(climate["monthly_mean_C"]) == 12
     assert climate["band_C"] == [16.0, 26.0]
     assert 0 <= climate["occupied_nv_suitable_pct"] <= climate["occupied_in_band_pct"] <= 100
-    for stage in ("comfort", "energy"):
+    for stage in ("energy",):
         assert results[stage] == {"status": "not yet calculated"}
     text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
     assert f"{climate['occupied_nv_suitable_pct']:.1f} % of the {climate['occupied_hours']:,} occupied hours" in text
@@ -277,3 +277,43 @@ def test_demo_loads_and_openings_keys_and_report(demo_build):
     assert results["openings"]["Level 1 north"]["depth_ok"] is False
     assert "Heat gains and loads" in text and "Airflow needed and free area" in text
     assert "Openings are more than airflow" in text
+
+
+CRITERIA = ("outdoor_band", "fixed_indoor", "ashrae55_80", "ashrae55_90", "ashrae55_80_fans",
+            "en16798_cat1", "en16798_cat2", "en16798_cat3")
+
+
+def test_demo_comfort_keys_and_ladder_in_report(demo_build):
+    results = json.loads((demo_build / "results.json").read_text(encoding="utf-8"))["comfort"]
+    text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
+    for zone in ("Level 1 north", "Level 1 south", "Level 2 open plan", "building"):
+        for criterion in CRITERIA:
+            entry = results[zone][criterion]
+            assert 0 <= entry["ok_pct"] <= 100 and 0 <= entry["out_of_range_pct"] <= 100
+            assert entry["ok_pct"] + entry["out_of_range_pct"] <= 100 + 1e-9
+        tm52 = results[zone]["tm52"]
+        for key in ("pass", "hours_exceedance_pct", "max_daily_weighted_exceedance", "max_delta_t"):
+            assert key in tm52
+        assert isinstance(results[zone]["max_operative_C"], float)
+        assert 0 <= results[zone]["nv_mode_pct"] <= 100
+    for criterion in CRITERIA:
+        assert f"{results['building'][criterion]['ok_pct']:.1f}" in text
+    assert "The assumption ladder" in text and "CIBSE TM52" in text
+    assert f"{results['building']['nv_mode_pct']:.1f} % of occupied hours" in text
+    assert results["method"]["unconverged_hours"] == 0
+
+
+def test_demo_ashrae55_shares_recomputed_from_the_published_equation(demo_build):
+    """ASHRAE 55-2020 §5.4: acceptable (80 %) when 0.31·t_pma + 14.3 ≤ t_o ≤ 0.31·t_pma + 21.3, 10 ≤ t_pma ≤ 33.5."""
+    results = json.loads((demo_build / "results.json").read_text(encoding="utf-8"))["comfort"]
+    climate = pd.read_csv(demo_build / "climate" / "hourly.csv", index_col="time")
+    hourly = pd.read_csv(demo_build / "comfort" / "hourly.csv", index_col="time")
+    pm = climate["prevailing_mean_ashrae55_C"]
+    occupied = climate["occupied"].astype(bool)
+    for zone, rows in hourly.groupby("zone"):
+        top = rows["temp_op_C"]
+        ok = (pm >= 10) & (pm <= 33.5) & (top >= 0.31 * pm + 14.3) & (top <= 0.31 * pm + 21.3)
+        assert_allclose(results[zone]["ashrae55_80"]["ok_pct"], 100 * ok[occupied].mean(), atol=1e-9)
+        assert_allclose(results[zone]["max_operative_C"], top[occupied].max(), atol=1e-9)
+        nv = (rows["mode"] == "natural ventilation")[occupied.to_numpy()]
+        assert_allclose(results[zone]["nv_mode_pct"], 100 * nv.mean(), atol=1e-9)
