@@ -351,3 +351,95 @@ def simulate_free_running(params, *, temp_air, gains_internal, gains_solar, coef
     flow = np.asarray(result.h_ve) / thermal.AIR_HEAT_CAPACITY
     windows = np.stack([window_flow(h, result.temp_air_in[h]) for h in range(temp_air.size)])
     return FreeRunningYear(result=result, flow=flow, window_flow=windows)
+
+
+@dataclass(frozen=True)
+class OperatingYears:
+    """Ideal-load simulations of the same zones: full air-conditioning and mixed mode (arrays (T, n))."""
+
+    baseline: object  # calcs.thermal.SimulationResult, sealed and air-conditioned in occupied hours
+    mixed: object  # calcs.thermal.SimulationResult, air-conditioning only in its air-conditioning hours
+    mechanical_flow: np.ndarray  # outdoor air moved by fans in the mixed-mode year [m³ s⁻¹]
+
+
+NO_COOLING = 1000.0  # °C: a cooling set-point no hour reaches (cooling off)
+
+
+def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, coefficients: FlowCoefficients,
+                             free_area, secure_area, infiltration_flow, fresh_air_flow, occupied, nv_mode,
+                             allowed_day, allowed_night, heating_setpoint, cooling_setpoint, heat_recovery=0.0,
+                             low_setpoint=21.0, night_low_setpoint=19.0, control_band=2.0,
+                             max_heating=np.inf, max_cooling=np.inf, tolerance=0.01) -> OperatingYears:
+    """The two years the energy comparison needs, with the same weather, gains and model.
+
+    Parameters
+    ----------
+    params : calcs.thermal.ZoneParameters
+        5R1C network of n zones (zones × variants).
+    temp_air : array_like (T,)
+        Outdoor air temperature [°C].
+    gains_internal, gains_solar : array_like (T, n)
+        Heat gains [W].
+    coefficients, free_area, secure_area, infiltration_flow, allowed_day, allowed_night :
+        As for :func:`simulate_free_running`.
+    fresh_air_flow : array_like (T, n)
+        Minimum outdoor air in occupied hours [m³ s⁻¹] (mechanical when air-conditioned).
+    occupied : array_like of bool (T, n)
+        Hours in which the set-points apply.
+    nv_mode : array_like of bool (T, n)
+        Natural-ventilation hours of the mixed-mode year (from :func:`changeover_modes`).
+    heating_setpoint, cooling_setpoint : float
+        Air-temperature set-points in occupied hours [°C].
+    heat_recovery : float
+        Sensible efficiency of heat recovery on the mechanical outdoor air [-].
+    max_heating, max_cooling : float or array_like (n,)
+        Plant capacity limits [W].
+
+    Returns
+    -------
+    OperatingYears
+
+    Notes
+    -----
+    Baseline: windows shut all year; outdoor air q = q_inf + q_fresh (occupied) with the
+    mechanical part tempered by heat recovery, H_ve = ρc·(q_inf + (1 − η_hr)·q_fresh);
+    heating and cooling to the set-points in occupied hours (ISO 13790 §C.4.2 ideal loads).
+    Mixed mode: in air-conditioning hours the same as the baseline; in natural-ventilation
+    hours windows are controlled as in :func:`simulate_free_running`, there is no cooling and
+    the heating set-point still applies. Unoccupied hours float freely (night cooling if allowed).
+    """
+    from . import thermal
+
+    temp_air = np.asarray(temp_air, dtype=float)
+    nv = np.asarray(nv_mode, dtype=bool)
+    occ = np.asarray(occupied, dtype=bool)
+    base = np.asarray(infiltration_flow, dtype=float)
+    fresh = np.asarray(fresh_air_flow, dtype=float)
+    eta = float(heat_recovery)
+    if not 0.0 <= eta < 1.0:
+        msg = f"heat_recovery must be between 0 and 1 (exclusive), got {heat_recovery!r}"
+        raise ProjectError(msg)
+    sealed_flow = base + (1.0 - eta) * np.where(occ, fresh, 0.0)
+    baseline = thermal.simulate(params, temp_air, gains_internal, gains_solar,
+                                thermal.ventilation_heat_transfer(sealed_flow), heating_setpoint=heating_setpoint,
+                                cooling_setpoint=cooling_setpoint, occupied=occ, max_heating=max_heating,
+                                max_cooling=max_cooling)
+    day = np.asarray(allowed_day, dtype=bool) & nv
+    night = np.asarray(allowed_night, dtype=bool)
+
+    def h_ve(hour: int, temp_in: np.ndarray) -> np.ndarray:
+        t_out = temp_air[hour]
+        f_day = window_opening_fraction(temp_in, t_out, day[hour], low_setpoint=low_setpoint, control_band=control_band)
+        f_night = window_opening_fraction(temp_in, t_out, night[hour], low_setpoint=night_low_setpoint,
+                                          control_band=control_band)
+        windows = (f_day * full_opening_flow(coefficients, hour, free_area, temp_in, t_out)
+                   + f_night * full_opening_flow(coefficients, hour, secure_area, temp_in, t_out))
+        flow = np.where(nv[hour], base + np.maximum(np.where(occ[hour], fresh[hour], 0.0), windows), sealed_flow[hour])
+        return thermal.ventilation_heat_transfer(flow)
+
+    cooling = np.where(nv, NO_COOLING, cooling_setpoint)
+    mixed = thermal.simulate(params, temp_air, gains_internal, gains_solar, h_ve, heating_setpoint=heating_setpoint,
+                             cooling_setpoint=cooling, occupied=occ, max_heating=max_heating,
+                             max_cooling=max_cooling, tolerance=tolerance)
+    mechanical = np.where(occ & ~nv, fresh, 0.0)
+    return OperatingYears(baseline=baseline, mixed=mixed, mechanical_flow=mechanical)

@@ -434,6 +434,87 @@ class Operation(_Section):
         return self
 
 
+class TimeOfUse(_Section):
+    start: str = _f(meaning="Start of the period, every day (HH:00)")
+    end: str = _f(meaning="End of the period, exclusive (HH:00); earlier than start runs over midnight")
+    price: float = _f(meaning="Electricity price in the period", unit="currency/kWh", ge=0, le=100)
+
+    @field_validator("start", "end")
+    @classmethod
+    def _clock(cls, value: str) -> str:
+        if not _CLOCK.match(value):
+            msg = "must be a whole hour written HH:00, from 00:00 to 24:00"
+            raise ValueError(msg)
+        return value
+
+
+class Energy(_Section):
+    heating_setpoint: float = _f(21.0, meaning="Heating set-point on the air temperature, occupied hours", unit="°C",
+                                 ge=10, le=26, source="design assumption (UK NCM uses 22 °C for offices)")
+    cooling_setpoint: float = _f(24.0, meaning="Cooling set-point on the air temperature, occupied hours", unit="°C",
+                                 ge=18, le=30, source="UK NCM open-plan office cooling set-point 24 °C")
+    cooling_seer: float = _f(4.0, meaning="Seasonal efficiency of the cooling plant (cooling ÷ electricity)", unit="-",
+                             gt=0.5, le=15, source="typical air-cooled chiller SEER 3.5–5 [from memory]")
+    cooling_efficiency_slope: float = _f(
+        0.0, meaning="Relative change of cooling efficiency per K of outdoor temperature above 25 °C (e.g. -0.02)",
+        unit="1/K", ge=-0.1, le=0.1, source="design assumption; 0 = constant seasonal efficiency")
+    heating_fuel: Literal["electricity", "gas"] = _f("gas", meaning="What the heating plant burns or draws")
+    heating_efficiency: float = _f(0.9, meaning="Seasonal heating efficiency (heat ÷ fuel; a heat pump's SCOP)",
+                                   unit="-", gt=0.3, le=8, source="condensing gas boiler about 0.9 [from memory]")
+    heat_recovery: float = _f(0.0, meaning="Sensible heat-recovery efficiency on the mechanical outdoor air",
+                              unit="-", ge=0, lt=1)
+    sfp: float = _f(1.6, meaning="Specific fan power of the air-conditioning's outdoor-air system", unit="W/(L/s)",
+                    gt=0, le=5, source="UK ADL limit, central AHU with heating and cooling 1.6 W/(L/s) [from memory]")
+    cooling_capacity: float | None = _f(None, meaning="Cooling plant capacity limit (none = unlimited)",
+                                        unit="W/m²", gt=0, le=1000)
+    actuator_standby: float = _f(1.0, meaning="Standby power per window actuator (mixed mode)", unit="W",
+                                 ge=0, le=50, source="design assumption, no published source")
+    controls_standby: float = _f(10.0, meaning="Standby power of the mixed-mode controls per zone", unit="W",
+                                 ge=0, le=500, source="design assumption, no published source")
+    currency: str = _f("currency units", meaning="Name of the currency for costs", max_length=20)
+    electricity_price: float = _f(0.25, meaning="Flat electricity price", unit="currency/kWh", ge=0, le=100,
+                                  source="invented placeholder tariff: set the client's tariff")
+    electricity_periods: tuple[TimeOfUse, ...] = _f((), meaning="Time-of-use electricity prices overriding the flat price")
+    demand_charge: float = _f(0.0, meaning="Charge on each month's peak electrical demand", unit="currency/kW/month",
+                              ge=0, le=1000)
+    gas_price: float = _f(0.08, meaning="Gas price", unit="currency/kWh", ge=0, le=100,
+                          source="invented placeholder tariff: set the client's tariff")
+    electricity_carbon: float = _f(0.20, meaning="Grid electricity carbon factor", unit="kgCO2e/kWh", ge=0, le=2)
+    gas_carbon: float = _f(0.18, meaning="Gas carbon factor", unit="kgCO2e/kWh", ge=0, le=1,
+                           source="natural gas about 0.18 kgCO2e/kWh gross [from memory]")
+    carbon_source: str = _f("not stated", meaning="Source of the carbon factors (named in the report)", max_length=200)
+    openable_area_cost: float = _f(400.0, meaning="Extra capital per m² of free area of openings (over fixed glazing)",
+                                   unit="currency/m²", ge=0, le=1e5, source="invented placeholder; cost planner to set")
+    actuator_cost: float = _f(300.0, meaning="Capital per window actuator", unit="currency", ge=0, le=1e5,
+                              source="invented placeholder; cost planner to set")
+    controls_cost: float = _f(2000.0, meaning="Capital of mixed-mode controls per zone", unit="currency", ge=0, le=1e7,
+                              source="invented placeholder; cost planner to set")
+    ceiling_fan_cost: float = _f(25.0, meaning="Capital of ceiling fans per m² of floor (if fans)", unit="currency/m²",
+                                 ge=0, le=1e4, source="invented placeholder; cost planner to set")
+    plant_cost: float = _f(500.0, meaning="Capital of cooling plant per kW of peak cooling", unit="currency/kW",
+                           ge=0, le=1e5, source="invented placeholder; cost planner to set")
+    plant_space_share: float = _f(10.0, meaning="Plant space of a full air-conditioning scheme as a share of floor area",
+                                  unit="%", ge=0, le=50, source=_NO_SOURCE + " (about half a floor in every five)")
+    life: int = _f(20, meaning="Life over which savings are counted", unit="years", ge=1, le=100)
+    discount_rate: float = _f(0.035, meaning="Real discount rate", unit="-", ge=0, le=0.5,
+                              source="design assumption; 3.5 % is a common public-sector real rate [from memory]")
+
+
+class Uncertainty(_Section):
+    samples: int = _f(500, meaning="Monte Carlo samples (one vectorised batch through the thermal model)", ge=10, le=5000)
+    seed: int = _f(20261202, meaning="Random seed (the same seed gives the same numbers)", ge=0)
+    gains_spread: float = _f(0.15, meaning="Standard deviation of internal gains, relative", unit="-", ge=0, le=1,
+                             source="design assumption, no published source")
+    solar_spread: float = _f(0.15, meaning="Standard deviation of solar gains (shading, g-value), relative", unit="-",
+                             ge=0, le=1, source="design assumption, no published source")
+    openable_area_spread: float = _f(0.15, meaning="Standard deviation of the effective openable area, relative",
+                                     unit="-", ge=0, le=1, source="design assumption, no published source")
+    seer_spread: float = _f(0.10, meaning="Standard deviation of the cooling efficiency, relative", unit="-", ge=0, le=1,
+                            source="design assumption, no published source")
+    price_spread: float = _f(0.20, meaning="Standard deviation of energy prices, relative", unit="-", ge=0, le=1,
+                             source="design assumption, no published source")
+
+
 class Project(_Section):
     """The whole project file."""
 
@@ -443,6 +524,8 @@ class Project(_Section):
     outdoor: Outdoor = _f(Outdoor(), meaning="Outdoor conditions under which windows may open")
     sizing: Sizing = _f(Sizing(), meaning="Design condition and rules for sizing the openings")
     operation: Operation = _f(Operation(), meaning="How the building runs in mixed mode")
+    energy: Energy = _f(Energy(), meaning="Plant, tariffs, carbon and costs for the energy comparison")
+    uncertainty: Uncertainty = _f(Uncertainty(), meaning="Spreads of the uncertain inputs for the Monte Carlo run")
     zones: tuple[Zone, ...] = _f(meaning="Zones of the building (at least one)", min_length=1)
     decisions: tuple[Decision, ...] = _f((), meaning="Decision log")
     signoff: SignOff = _f(SignOff(), meaning="Sign-off block as written in the project file")

@@ -78,6 +78,7 @@ def project_dict(site: dict[str, Any], weather_name: str) -> dict[str, Any]:
         },
         "occupancy": {"calendar_year": CALENDAR_YEAR, "holidays": [dt.date(2026, 1, 1), dt.date(2026, 12, 25)]},
         "zones": [{"name": "north", "floor_area": 400.0}, {"name": "south", "floor_area": 200.0}],
+        "uncertainty": {"samples": 20},  # small Monte Carlo batch to keep end-to-end tests quick
     }
 
 

@@ -1,0 +1,327 @@
+"""Assemble batches of zones × variants from the project and earlier stages' outputs.
+
+The comfort and energy stages run the thermal model on many columns at once: every zone of
+the building, and for the sensitivity and uncertainty studies every variant of it (more or
+less internal gain, shading, openable area, another mass class, longer occupied hours, ceiling
+fans, another comfort criterion). This module turns the project and the climate, loads and
+openings outputs into the arrays those runs need; it holds no physics of its own (it calls
+:mod:`calcs.gains`, :mod:`calcs.climate`, :mod:`calcs.airflow`, :mod:`calcs.thermal` and
+:mod:`calcs.operation`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from . import airflow, climate, gains, operation, thermal
+
+#: What a variant may change, with the value meaning "as designed".
+VARIANT_KEYS: dict[str, Any] = {
+    "gains_scale": 1.0,  # internal gains multiplier [-]
+    "solar_scale": 1.0,  # solar gains multiplier (shading, g-value) [-]
+    "area_scale": 1.0,  # openable free area multiplier [-]
+    "end_shift": 0,  # occupied period ends this many hours later [h]
+    "mass_class": None,  # thermal mass class for every zone
+    "fans": None,  # ceiling fans on/off
+    "criterion": None,  # changeover criterion
+}
+
+
+@dataclass
+class Batch:
+    """Arrays for n columns (zones × variants), T hours."""
+
+    zone: np.ndarray  # (n,) zone index of each column
+    variant: np.ndarray  # (n,) variant index of each column
+    names: list[str]
+    areas: np.ndarray  # (n,) floor area [m²]
+    params: thermal.ZoneParameters
+    occupied: np.ndarray  # (T, n)
+    internal: np.ndarray  # (T, n) [W], ceiling-fan power included when fans run
+    solar: np.ndarray  # (T, n) [W]
+    coefficients: operation.FlowCoefficients
+    free_area: np.ndarray  # (n,) [m²]
+    secure_area: np.ndarray  # (n,) [m²]
+    infiltration: np.ndarray  # (n,) [m³ s⁻¹]
+    fresh: np.ndarray  # (T, n) fresh air in occupied hours [m³ s⁻¹]
+    allowed_day: np.ndarray  # (T, n)
+    allowed_night: np.ndarray  # (T, n)
+    fans: np.ndarray  # (n,) bool
+    criterion: list[str]  # (n,)
+    openings: np.ndarray  # (n,) count of openable openings (actuators)
+    variants: list[dict[str, Any]] = field(default_factory=list)
+
+
+def zone_internal_gains(index: pd.DatetimeIndex, occupied: pd.Series, zone: Any) -> pd.DataFrame:
+    """Hourly internal gains of one project zone, its schedules following the occupancy calendar.
+
+    People follow ``zone.occupancy_profile`` on occupied days (default: 1 in occupied hours);
+    lighting and equipment follow their profiles or the calendar with the out-of-hours
+    fractions of :mod:`calcs.gains`. Returns :func:`calcs.gains.internal_gains`' frame.
+    """
+    fractions = {
+        "occupancy": gains.calendar_fractions(occupied, zone.occupancy_profile, 0.0),
+        "lighting_use": gains.calendar_fractions(occupied, zone.lighting_profile, gains.OUT_OF_HOURS_LIGHTING.value),
+        "equipment_use": gains.calendar_fractions(occupied, zone.equipment_profile,
+                                                  gains.OUT_OF_HOURS_EQUIPMENT.value),
+    }
+    return gains.internal_gains(index, zone.floor_area, zone.people_density, zone.activity, zone.lighting,
+                                zone.equipment, **fractions)
+
+
+def _occupied(project: Any, index: pd.DatetimeIndex, end_shift: int) -> pd.Series:
+    occ = project.occupancy
+    end = min(24, max(occ.start_hour + 1, occ.end_hour + int(end_shift)))
+    return climate.occupied_hours(index, days=occ.days, start_hour=occ.start_hour, end_hour=end,
+                                  holidays=occ.holidays)
+
+
+def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.DataFrame, loads: Mapping[str, Any],
+                openings: pd.DataFrame, variants: Sequence[Mapping[str, Any]] = ({},)) -> Batch:
+    """Columns for every zone of every variant.
+
+    Parameters
+    ----------
+    project : calcs.project.Project
+    climate_hourly : DataFrame
+        The climate stage's ``hourly`` table.
+    gains_hourly : DataFrame
+        The loads stage's ``hourly_gains`` table (long: one block per zone).
+    loads : mapping
+        The loads stage's results (heat transfer coefficients per zone).
+    openings : DataFrame
+        The openings stage's ``zones`` table indexed by zone (opening height, Cd, fresh air).
+    variants : sequence of mappings
+        Changes from the design, keys of :data:`VARIANT_KEYS`; ``{}`` is the design itself.
+    """
+    op = project.operation
+    index = climate_hourly.index
+    T = len(index)
+    zones = list(project.zones)
+    names = [z.name for z in zones]
+    wind_met = climate_hourly["wind_speed"].to_numpy()
+    temp_air = climate_hourly["temp_air"].to_numpy()
+    acceptable = (climate_hourly["wind_ok"] & climate_hourly["rain_ok"]).astype(bool).to_numpy()
+    hour = index.hour.to_numpy()
+    start, end = int(op.night_purge_start[:2]), int(op.night_purge_end[:2])
+    night = (hour >= start) | (hour < end) if start > end else (hour >= start) & (hour < end)
+    design_occ = climate_hourly["occupied"].astype(bool)
+
+    def by_zone(column: str) -> np.ndarray:
+        table = gains_hourly.pivot_table(index=gains_hourly.index, columns="zone", values=column, sort=False)
+        return table[names].reindex(index).to_numpy()
+
+    design_internal = by_zone("people_sensible") + by_zone("lighting") + by_zone("equipment")
+    design_solar = by_zone("solar")
+    cols: dict[str, list] = {k: [] for k in ("zone", "variant", "area", "occ", "internal", "solar", "free", "secure",
+                                             "infiltration", "fresh", "day", "night", "fans", "criterion", "mass",
+                                             "h_op", "h_w", "arrangement", "height", "stack", "cd", "wind_bld",
+                                             "openings")}
+    for v, raw in enumerate(variants):
+        change = {**VARIANT_KEYS, **dict(raw)}
+        unknown = set(raw) - set(VARIANT_KEYS)
+        if unknown:
+            msg = f"unknown variant keys {sorted(unknown)} (allowed: {', '.join(VARIANT_KEYS)})"
+            raise ValueError(msg)
+        shift = int(change["end_shift"])
+        occupied = design_occ if shift == 0 else _occupied(project, index, shift)
+        occ = occupied.to_numpy(dtype=bool)
+        fans = op.ceiling_fans if change["fans"] is None else bool(change["fans"])
+        for z, zone in enumerate(zones):
+            if shift == 0:
+                internal = design_internal[:, z]
+            else:
+                internal = zone_internal_gains(index, occupied, zone)["total_sensible"].to_numpy()
+            fan_gain = op.fan_power * zone.floor_area * occ if fans else 0.0
+            free = sum(o.free_area * o.count for o in zone.openings) * change["area_scale"]
+            secure = sum(o.free_area * o.count for o in zone.openings if o.secure) * change["area_scale"]
+            row = openings.loc[zone.name]
+            cols["zone"].append(z)
+            cols["variant"].append(v)
+            cols["area"].append(zone.floor_area)
+            cols["occ"].append(occ)
+            cols["internal"].append(internal * change["gains_scale"] + fan_gain)
+            cols["solar"].append(design_solar[:, z] * change["solar_scale"])
+            cols["free"].append(free)
+            cols["secure"].append(secure)
+            cols["infiltration"].append(zone.infiltration_ach * zone.floor_area * zone.ceiling_height / 3600)
+            cols["fresh"].append(occ * float(row["fresh_air_L_s"]) / 1000)
+            cols["day"].append(occ & acceptable)
+            cols["night"].append((~occ) & night & acceptable & (temp_air >= op.night_purge_min_outdoor)
+                                 & bool(op.night_purge))
+            cols["fans"].append(fans)
+            cols["criterion"].append(change["criterion"] or op.changeover_criterion)
+            cols["mass"].append(change["mass_class"] or zone.mass_class)
+            cols["h_op"].append(loads[zone.name]["htc_opaque_W_K"])
+            cols["h_w"].append(loads[zone.name]["htc_windows_W_K"])
+            cols["arrangement"].append(zone.ventilation)
+            cols["height"].append(float(row["opening_height_m"]))
+            cols["stack"].append(zone.stack_height)
+            cols["cd"].append(float(row["discharge_coefficient"]))
+            cols["wind_bld"].append(airflow.wind_speed_at_height_bs5925(wind_met, zone.height_above_ground,
+                                                                        project.sizing.terrain))
+            cols["openings"].append(sum(o.count for o in zone.openings))
+    stack2 = lambda key: np.column_stack(cols[key]) if cols[key] else np.zeros((T, 0))  # noqa: E731
+    areas = np.array(cols["area"], dtype=float)
+    params = thermal.zone_parameters(areas, np.array(cols["h_op"]), np.array(cols["h_w"]), cols["mass"])
+    coefficients = operation.opening_flow_coefficients(
+        cols["arrangement"], wind_speed_met=wind_met, wind_speed_building=stack2("wind_bld"),
+        opening_height=np.array(cols["height"]), stack_height=np.array(cols["stack"]),
+        cp_windward=project.sizing.cp_windward, cp_leeward=project.sizing.cp_leeward,
+        discharge_coefficient=np.array(cols["cd"]),
+    )
+    return Batch(
+        zone=np.array(cols["zone"]), variant=np.array(cols["variant"]), names=names, areas=areas, params=params,
+        occupied=stack2("occ").astype(bool), internal=stack2("internal"), solar=stack2("solar"),
+        coefficients=coefficients, free_area=np.array(cols["free"]), secure_area=np.array(cols["secure"]),
+        infiltration=np.array(cols["infiltration"]), fresh=stack2("fresh"), allowed_day=stack2("day").astype(bool),
+        allowed_night=stack2("night").astype(bool), fans=np.array(cols["fans"], dtype=bool),
+        criterion=cols["criterion"], openings=np.array(cols["openings"]), variants=[dict(v) for v in variants],
+    )
+
+
+def free_running(batch: Batch, project: Any, temp_air: np.ndarray) -> operation.FreeRunningYear:
+    """The free-running year of every column (windows controlled, no heating or cooling)."""
+    op = project.operation
+    return operation.simulate_free_running(
+        batch.params, temp_air=temp_air, gains_internal=batch.internal, gains_solar=batch.solar,
+        coefficients=batch.coefficients, free_area=batch.free_area, secure_area=batch.secure_area,
+        infiltration_flow=batch.infiltration, background_flow=batch.fresh, allowed_day=batch.allowed_day,
+        allowed_night=batch.allowed_night, low_setpoint=op.nv_low_setpoint,
+        night_low_setpoint=op.night_purge_low_setpoint, control_band=op.control_band,
+    )
+
+
+def changeover(batch: Batch, project: Any, climate_hourly: pd.DataFrame, temp_op: np.ndarray) -> np.ndarray:
+    """Natural-ventilation hours (T, n) of each column's operating year, judged on free-running ``temp_op``.
+
+    Humid hours (outdoor dew point above the project's ceiling) go to air-conditioning: natural
+    ventilation cannot dehumidify.
+    """
+    op = project.operation
+    ch = climate_hourly
+    dry = ch["dew_ok"].astype(bool).to_numpy()[:, None]
+    modes = np.zeros(temp_op.shape, dtype=bool)
+    days = ch.index.normalize()
+    for criterion in sorted(set(batch.criterion)):
+        for fans in (False, True):
+            cols = np.flatnonzero((np.array(batch.criterion) == criterion) & (batch.fans == fans))
+            if cols.size == 0:
+                continue
+            limits = operation.criterion_limits(
+                criterion, temp_op=temp_op[:, cols], temp_air=ch["temp_air"].to_numpy()[:, None],
+                running_mean=ch["running_mean_en16798_C"].to_numpy()[:, None],
+                prevailing_mean=ch["prevailing_mean_ashrae55_C"].to_numpy()[:, None],
+                air_speed=op.fan_air_speed if fans else op.air_speed,
+                fan_air_speed=op.fan_air_speed if fans else op.air_speed,
+                fixed=(op.fixed_indoor_low, op.fixed_indoor_high),
+                band=(project.outdoor.band_low, project.outdoor.band_high),
+            )
+            limits = operation.Limits(limits.value, limits.lower, limits.upper, limits.in_range & dry, limits.judged)
+            modes[:, cols] = operation.changeover_modes(limits, batch.occupied[:, cols], days, dead_band=op.dead_band)
+    return modes
+
+
+def operating_years(batch: Batch, project: Any, temp_air: np.ndarray, nv_mode: np.ndarray) -> operation.OperatingYears:
+    """Baseline (full air-conditioning) and mixed-mode years of every column, with the project's set-points."""
+    op, en = project.operation, project.energy
+    capacity = np.inf if en.cooling_capacity is None else en.cooling_capacity * batch.areas
+    return operation.simulate_operating_years(
+        batch.params, temp_air=temp_air, gains_internal=batch.internal, gains_solar=batch.solar,
+        coefficients=batch.coefficients, free_area=batch.free_area, secure_area=batch.secure_area,
+        infiltration_flow=batch.infiltration, fresh_air_flow=batch.fresh, occupied=batch.occupied, nv_mode=nv_mode,
+        allowed_day=batch.allowed_day, allowed_night=batch.allowed_night, heating_setpoint=en.heating_setpoint,
+        cooling_setpoint=en.cooling_setpoint, heat_recovery=en.heat_recovery, low_setpoint=op.nv_low_setpoint,
+        night_low_setpoint=op.night_purge_low_setpoint, control_band=op.control_band, max_cooling=capacity,
+    )
+
+
+END_USES = ("cooling", "heating", "fans", "ceiling_fans", "standby")
+
+
+@dataclass
+class Accounts:
+    """Annual energy [kWh], cost [currency] and carbon [kg CO2e] of every column, both schemes.
+
+    ``kwh[scheme][end_use]`` are (n,) arrays for scheme "baseline" and "mixed"; ``monthly_kwh[scheme]``
+    is (12, n) total delivered energy; ``cost`` and ``carbon`` are (n,) per scheme (the demand charge is
+    per variant, in ``demand_cost`` (variants,) per scheme).
+    """
+
+    kwh: dict[str, dict[str, np.ndarray]]
+    monthly_kwh: dict[str, np.ndarray]
+    cost: dict[str, np.ndarray]
+    carbon: dict[str, np.ndarray]
+    demand_cost: dict[str, np.ndarray]
+    peak_cooling_w: dict[str, np.ndarray]
+
+
+def energy_accounts(batch: Batch, project: Any, index: pd.DatetimeIndex, temp_air: np.ndarray,
+                    years: operation.OperatingYears, nv_mode: np.ndarray, *, seer_scale=1.0,
+                    price_scale=1.0) -> Accounts:
+    """Energy by end use, cost and carbon of the baseline and mixed-mode years (see :mod:`calcs.energy`).
+
+    ``seer_scale`` and ``price_scale`` (scalars or (n,) arrays) scale the cooling efficiency and
+    every energy price, for the sensitivity and uncertainty studies.
+    """
+    from . import energy
+
+    en, op = project.energy, project.operation
+    seer = en.cooling_seer * np.asarray(seer_scale, dtype=float)
+    price_el = energy.hourly_price(index, en.electricity_price,
+                                   [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
+    scale = np.asarray(price_scale, dtype=float)
+    month = index.month.to_numpy()
+    occ = batch.occupied
+    nv = nv_mode & occ
+    kwh: dict[str, dict[str, np.ndarray]] = {}
+    monthly, cost, carbon, demand, peak = {}, {}, {}, {}, {}
+    for scheme, result, mech in (("baseline", years.baseline, np.where(occ, batch.fresh, 0.0)),
+                                 ("mixed", years.mixed, years.mechanical_flow)):
+        cooling_el = energy.cooling_electricity(result.cooling_need, seer, temp_air,
+                                                slope=en.cooling_efficiency_slope)
+        heat = energy.heating_energy(result.heating_need, en.heating_efficiency)
+        fans = energy.fan_energy(mech, en.sfp, mech > 0)
+        if scheme == "mixed":
+            ceiling = np.where(nv & batch.fans[None, :], op.fan_power * batch.areas[None, :], 0.0)
+            standby = np.broadcast_to(en.actuator_standby * batch.openings + en.controls_standby, occ.shape)
+        else:
+            ceiling = np.zeros(occ.shape)
+            standby = np.zeros(occ.shape)
+        electric = cooling_el + fans + ceiling + standby + (heat if en.heating_fuel == "electricity" else 0.0)
+        gas = heat if en.heating_fuel == "gas" else np.zeros(occ.shape)
+        kwh[scheme] = {"cooling": cooling_el.sum(axis=0) / 1000, "heating": heat.sum(axis=0) / 1000,
+                       "fans": fans.sum(axis=0) / 1000, "ceiling_fans": ceiling.sum(axis=0) / 1000,
+                       "standby": np.asarray(standby).sum(axis=0) / 1000}
+        delivered = electric + gas
+        monthly[scheme] = np.stack([delivered[month == m].sum(axis=0) / 1000 for m in range(1, 13)])
+        cost[scheme] = ((price_el[:, None] * electric).sum(axis=0) / 1000
+                        + en.gas_price * gas.sum(axis=0) / 1000) * scale
+        carbon[scheme] = (en.electricity_carbon * electric.sum(axis=0) + en.gas_carbon * gas.sum(axis=0)) / 1000
+        column_scale = np.broadcast_to(scale, batch.variant.shape)
+        demand[scheme] = np.array([
+            energy.demand_charge(electric[:, batch.variant == v], index, en.demand_charge)
+            * column_scale[batch.variant == v][0]
+            for v in range(int(batch.variant.max()) + 1)
+        ])
+        peak[scheme] = result.cooling_need.max(axis=0)
+    return Accounts(kwh=kwh, monthly_kwh=monthly, cost=cost, carbon=carbon, demand_cost=demand,
+                    peak_cooling_w=peak)
+
+
+def capital_cost(batch: Batch, project: Any, peak_cooling_baseline_w, peak_cooling_mixed_w) -> np.ndarray:
+    """Extra capital of mixed mode per column: openable area, actuators, controls, fans, less smaller plant.
+
+    Capital = A_free·c_area + N_actuators·c_act + c_controls + (fans: A_floor·c_fan)
+    − (P_base − P_mixed)/1000·c_plant (the plant may shrink when mixed mode lowers the peak).
+    """
+    en = project.energy
+    fans = np.where(batch.fans, batch.areas * en.ceiling_fan_cost, 0.0)
+    plant_saving = np.maximum(np.asarray(peak_cooling_baseline_w) - np.asarray(peak_cooling_mixed_w), 0.0) / 1000
+    return (batch.free_area * en.openable_area_cost + batch.openings * en.actuator_cost + en.controls_cost + fans
+            - plant_saving * en.plant_cost)
