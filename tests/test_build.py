@@ -60,7 +60,7 @@ def test_demo_report_sections_and_cautions(demo_build):
         assert caution in text, caution
     assert "Status: DRAFT" in text
     assert "invented" in text  # the demo says it is invented
-    assert text.count("Not yet calculated.") == 1  # energy says so plainly
+    assert "Not yet calculated." not in text  # every stage calculates
 
 
 def test_demo_report_is_self_contained(demo_build):
@@ -68,7 +68,7 @@ def test_demo_report_is_self_contained(demo_build):
     assert "<script" not in page.lower()
     assert not re.search(r"""(src|href)\s*=\s*["']?https?:""", page, re.I)
     assert "<link" not in page.lower()
-    assert page.count('src="data:image/png;base64,') == 10  # 3 climate, 2 loads, 2 openings, 3 comfort charts
+    assert page.count('src="data:image/png;base64,') == 13  # climate 3, loads 2, openings 2, comfort 3, energy 3
     assert "Traceback" not in page and "stderr" not in page
 
 
@@ -81,8 +81,6 @@ def test_demo_results_keys_and_report_numbers(demo_build):
     assert len(climate["monthly_mean_C"]) == 12
     assert climate["band_C"] == [16.0, 26.0]
     assert 0 <= climate["occupied_nv_suitable_pct"] <= climate["occupied_in_band_pct"] <= 100
-    for stage in ("energy",):
-        assert results[stage] == {"status": "not yet calculated"}
     text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
     assert f"{climate['occupied_nv_suitable_pct']:.1f} % of the {climate['occupied_hours']:,} occupied hours" in text
     assert f"{climate['occupied_in_band_pct']:.1f} % of occupied hours have an outdoor dry bulb" in text
@@ -317,3 +315,52 @@ def test_demo_ashrae55_shares_recomputed_from_the_published_equation(demo_build)
         assert_allclose(results[zone]["max_operative_C"], top[occupied].max(), atol=1e-9)
         nv = (rows["mode"] == "natural ventilation")[occupied.to_numpy()]
         assert_allclose(results[zone]["nv_mode_pct"], 100 * nv.mean(), atol=1e-9)
+
+
+ENERGY_KEYS = ("baseline_kWh", "mixed_mode_kWh", "savings_kWh", "savings_pct", "savings_cost_per_year",
+               "savings_co2_kg_per_year", "extra_capital_cost", "simple_payback_years", "npv", "savings_pct_p10",
+               "savings_pct_p50", "savings_pct_p90", "nv_mode_pct_p10", "nv_mode_pct_p90")
+
+
+def test_demo_energy_keys_report_and_tornado_signs(demo_build):
+    results = json.loads((demo_build / "results.json").read_text(encoding="utf-8"))["energy"]
+    for key in ENERGY_KEYS:
+        assert key in results, key
+    for zone in ("Level 1 north", "Level 1 south", "Level 2 open plan"):
+        for key in ("baseline_kWh", "mixed_mode_kWh", "savings_kWh", "savings_pct", "savings_cost_per_year"):
+            assert key in results["zones"][zone]
+    assert_allclose(results["savings_kWh"], results["baseline_kWh"] - results["mixed_mode_kWh"], rtol=1e-12)
+    assert_allclose(sum(z["baseline_kWh"] for z in results["zones"].values()), results["baseline_kWh"], rtol=1e-9)
+    assert results["savings_pct_p10"] <= results["savings_pct_p50"] <= results["savings_pct_p90"]
+    # payback and NPV by their definitions from the same numbers
+    assert_allclose(results["simple_payback_years"], results["extra_capital_cost"] / results["savings_cost_per_year"],
+                    rtol=1e-9)
+    text = _text((demo_build / "report.html").read_text(encoding="utf-8"))
+    assert f"{results['savings_pct']:.1f} %" in text
+    assert f"{results['savings_pct_p10']:.1f} %" in text and f"{results['savings_pct_p90']:.1f} %" in text
+    assert "Which assumptions move the answer" in text and "How sure is the answer" in text
+    # physically sensible directions of the one-at-a-time swings (natural-ventilation hours)
+    sens = results["sensitivity"]
+    assert sens["Internal gains ±20 %"]["nv_mode_pct_high"] < sens["Internal gains ±20 %"]["nv_mode_pct_low"]
+    assert sens["Openable area ±30 %"]["nv_mode_pct_high"] > sens["Openable area ±30 %"]["nv_mode_pct_low"]
+    assert sens["Ceiling fans off / on"]["nv_mode_pct_high"] >= sens["Ceiling fans off / on"]["nv_mode_pct_low"]
+    crit = sens["Comfort criterion: EN 16798-1 cat. III / cat. I"]
+    assert crit["nv_mode_pct_high"] < crit["nv_mode_pct_low"]  # category I is stricter than III
+    shade = sens["Solar gains (shading) ±30 %"]
+    assert shade["nv_mode_pct_high"] <= shade["nv_mode_pct_low"]
+    price = sens["Energy prices ±20 %"]
+    assert price["high"] > 0 > price["low"]  # dearer energy, larger money saving
+
+
+def test_monte_carlo_collapses_to_the_design_case(make_project, tmp_path, capsys):
+    """With every spread zero, each sample is the design case: P10 = P50 = P90 = the deterministic saving."""
+    folder = make_project()
+    out = tmp_path / "zero-spread"
+    spreads = ["gains_spread", "solar_spread", "openable_area_spread", "seer_spread", "price_spread"]
+    args = [str(folder), "--out", str(out)] + [x for k in spreads for x in ("--set", f"uncertainty.{k}=0")]
+    code, _, err = _build(args, capsys)
+    assert code == 0, err
+    results = json.loads((out / "results.json").read_text(encoding="utf-8"))["energy"]
+    for q in ("p10", "p50", "p90"):
+        assert_allclose(results[f"savings_pct_{q}"], results["savings_pct"], atol=1e-9)
+    assert_allclose(results["nv_mode_pct_p10"], results["nv_mode_pct_p90"], atol=1e-9)
