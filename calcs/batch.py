@@ -116,6 +116,8 @@ def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.Dat
         table = gains_hourly.pivot_table(index=gains_hourly.index, columns="zone", values=column, sort=False)
         return table[names].reindex(index).to_numpy()
 
+    wind_at_zone = [airflow.wind_speed_at_height_bs5925(wind_met, z.height_above_ground, project.sizing.terrain)
+                    for z in zones]
     design_internal = by_zone("people_sensible") + by_zone("lighting") + by_zone("equipment")
     design_solar = by_zone("solar")
     cols: dict[str, list] = {k: [] for k in ("zone", "variant", "area", "occ", "internal", "solar", "free", "secure",
@@ -163,8 +165,7 @@ def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.Dat
             cols["height"].append(float(row["opening_height_m"]))
             cols["stack"].append(zone.stack_height)
             cols["cd"].append(float(row["discharge_coefficient"]))
-            cols["wind_bld"].append(airflow.wind_speed_at_height_bs5925(wind_met, zone.height_above_ground,
-                                                                        project.sizing.terrain))
+            cols["wind_bld"].append(wind_at_zone[z])
             cols["openings"].append(sum(o.count for o in zone.openings))
     stack2 = lambda key: np.column_stack(cols[key]) if cols[key] else np.zeros((T, 0))  # noqa: E731
     areas = np.array(cols["area"], dtype=float)
