@@ -11,7 +11,7 @@ STAMP  := $(VENV)/.installed
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
 	$(BIN)/pip install --quiet --upgrade pip
-	$(BIN)/pip install --quiet -e '.[test]'
+	$(BIN)/pip install --quiet -e '.[test,dask]'
 	$(BIN)/python -m ipykernel install --sys-prefix --name python3 >/dev/null
 	touch $(STAMP)
 
@@ -31,6 +31,8 @@ test-fast: $(STAMP)
 bench: $(STAMP)
 	$(BIN)/python benchmarks/bench_build.py
 	$(BIN)/python benchmarks/bench_thermal.py
+	$(BIN)/python benchmarks/bench_screen.py
+	$(BIN)/python benchmarks/bench_uncertainty.py
 
 clean:
 	rm -rf build/*/ .pytest_cache

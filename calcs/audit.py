@@ -80,6 +80,15 @@ def hash_tree(root: Path, subfolders: tuple[str, ...]) -> dict[str, str]:
     return out
 
 
+def hash_inputs(inputs: Path) -> dict[str, str]:
+    """SHA-256 of every file in a build's ``inputs/`` folder, keyed by path relative to it."""
+    return {
+        path.relative_to(inputs).as_posix(): sha256_file(path)
+        for path in sorted(inputs.rglob("*"))
+        if path.is_file()
+    }
+
+
 def combined_digest(inputs: dict[str, str], outputs: dict[str, str]) -> str:
     """One SHA-256 over the sorted input and output digests: the calculation's identity."""
     digest = hashlib.sha256()
@@ -87,6 +96,12 @@ def combined_digest(inputs: dict[str, str], outputs: dict[str, str]) -> str:
         for name in sorted(table):
             digest.update(f"{label}\t{name}\t{table[name]}\n".encode())
     return digest.hexdigest()
+
+
+def calculation_digest(inputs: dict[str, str], outputs: dict[str, str]) -> str:
+    """The manifest ``digest``: inputs plus the deterministic outputs (CSV and JSON; not notebooks or charts)."""
+    deterministic = {k: v for k, v in outputs.items() if k.endswith((".csv", ".json"))}
+    return combined_digest(inputs, deterministic)
 
 
 def environment() -> dict[str, Any]:

@@ -17,6 +17,7 @@ from __future__ import annotations
 import datetime as dt
 import json
 import os
+import re
 import shutil
 import sys
 import time
@@ -45,6 +46,7 @@ class BuildResult:
     manifest: dict[str, Any]
     stage_seconds: dict[str, float] = field(default_factory=dict)
     total_seconds: float = 0.0
+    render_seconds: float = 0.0  # report.html, exports and report.pdf
 
 
 def default_out(project: Project, root: Path | None = None) -> Path:
@@ -58,8 +60,15 @@ def _now() -> str:
 
 
 def prepare_inputs(project_file: Path, project: Project, folder: Path, overrides: Sequence[str]) -> dict[str, str]:
-    """Copy the inputs into ``folder/inputs`` and write the resolved project; return their digests."""
+    """Copy the inputs into ``folder/inputs`` and write the resolved project; return their digests.
+
+    Given a build's recorded ``inputs/project.resolved.json`` (as ``freerun verify`` does), the
+    recorded inputs folder is copied verbatim, so the calculation re-runs on exactly those files.
+    """
     inputs = folder / INPUTS
+    if is_recorded_inputs(project_file):
+        shutil.copytree(project_file.parent, inputs)
+        return audit.hash_inputs(inputs)
     (inputs / "weather").mkdir(parents=True)
     shutil.copy2(project_file, inputs / PROJECT_FILE)
     weather_src = (project_file.parent / project.site.weather_file).resolve()
@@ -69,13 +78,14 @@ def prepare_inputs(project_file: Path, project: Project, folder: Path, overrides
     resolved["site"]["weather_file"] = f"weather/{weather_src.name}"
     (inputs / RESOLVED_FILE).write_text(dump_json(resolved), encoding="utf-8")
     (inputs / DEFAULTS_FILE).write_text(dump_json({"defaults_used": defaults_used(project)}), encoding="utf-8")
-    digests = {
-        PROJECT_FILE: audit.sha256_file(project_file),
-        f"weather/{weather_src.name}": audit.sha256_file(weather_src),
-    }
     if overrides:
         (inputs / "overrides.json").write_text(dump_json({"overrides": list(overrides)}), encoding="utf-8")
-    return digests
+    return audit.hash_inputs(inputs)  # every input: project and weather files, resolved project, overrides
+
+
+def is_recorded_inputs(project_file: Path) -> bool:
+    """True for a build's ``inputs/project.resolved.json`` (beside its copied project.toml)."""
+    return project_file.name == RESOLVED_FILE and (project_file.parent / PROJECT_FILE).is_file()
 
 
 def validate_inputs(project_dir: str | Path, overrides: Sequence[str] = ()) -> tuple[Path, Project]:
@@ -104,17 +114,42 @@ def build(
     out: str | Path | None = None,
     *,
     overrides: Sequence[str] = (),
+    new_revision: str | None = None,
+    pdf: bool = True,
+    fresh: bool = False,
     progress: Callable[[str], None] | None = None,
 ) -> BuildResult:
-    """Build the report of a project folder. See the module docstring for the steps."""
+    """Build the report of a project folder. See the module docstring for the steps.
+
+    ``project_dir`` may also be a build's ``inputs/project.resolved.json`` (re-execution of a
+    recorded calculation; no overrides then). ``new_revision`` builds the project as revision
+    ``new_revision`` (recorded in the manifest as ``revision_override``). A build folder holding
+    signatures is never rebuilt (:func:`calcs.signoff.refuse_if_signed`).
+    """
+    from .compare import record_history
+    from .signoff import refuse_if_signed
+
     say = progress or (lambda text: None)
     started_wall = time.perf_counter()
     started = _now()
-    project_file, project = validate_inputs(project_dir, overrides)
+    if overrides and is_recorded_inputs(Path(project_dir)):
+        msg = (f"{project_dir}: --set cannot be applied to a build's recorded inputs; build the project "
+               "folder with --set instead (nothing was changed)")
+        raise FreerunError(msg)
+    if new_revision is not None and not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9._-]{0,63}", new_revision):
+        msg = (f"--new-revision {new_revision!r}: a revision is 1–64 letters, digits, '.', '_' or '-' "
+               "starting with a letter or digit (it names a folder)")
+        raise FreerunError(msg)
+    revision_set = [f"project.revision={json.dumps(new_revision)}"] if new_revision is not None else []
+    project_file, project = validate_inputs(project_dir, [*overrides, *revision_set])
+    from .pdf import paper_of
+
+    paper_of(project)  # a bad page size is refused before anything is written
     target = Path(out) if out else default_out(project)
     if overrides and out is None:
         target = target.parent / f"{target.name}-check"
     target = target.resolve()
+    refuse_if_signed(target)
     target.parent.mkdir(parents=True, exist_ok=True)
     work = target.parent / f".{target.name}.partial-{os.getpid()}"
     if work.exists():
@@ -124,24 +159,63 @@ def build(
         inputs_sha = prepare_inputs(project_file, project, work, overrides)
         resolved = work / INPUTS / RESOLVED_FILE
         seconds: dict[str, float] = {}
-        for number, stage in enumerate(STAGES, start=1):
-            say(f"[{number}/{len(STAGES)}] {stage} ...")
-            t0 = time.perf_counter()
-            _run_stage(stage, resolved, work)
-            seconds[stage] = time.perf_counter() - t0
-            say(f"[{number}/{len(STAGES)}] {stage} done in {seconds[stage]:.1f} s")
+        stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
         results = merge_results(work)
         (work / RESULTS_FILE).write_text(dump_json(results), encoding="utf-8")
-        manifest = write_manifest(work, project, inputs_sha, overrides, started)
-        say("rendering report ...")
-        render_into(work, project, results, manifest)
+        manifest = write_manifest(work, project, inputs_sha, overrides, started,
+                                  extra={"revision_override": new_revision, "stages": stages})
+        manifest = record_history(work, target, manifest)
+        say("rendering report" + (", PDF" if pdf else "") + " and table exports ...")
+        t0 = time.perf_counter()
+        render_into(work, project, results, manifest, pdf=pdf)
+        render_seconds = time.perf_counter() - t0
+        say(f"rendered in {render_seconds:.1f} s")
+        refuse_if_signed(target)  # signed while this build ran: keep the signed one
     except BaseException:
         _keep_failed(work, target)
         raise
     _swap_into_place(work, target)
     total = time.perf_counter() - started_wall
     say(f"report written to {target / 'report.html'} in {total:.1f} s")
-    return BuildResult(folder=target, results=results, manifest=manifest, stage_seconds=seconds, total_seconds=total)
+    return BuildResult(folder=target, results=results, manifest=manifest, stage_seconds=seconds, total_seconds=total,
+                       render_seconds=render_seconds)
+
+
+CACHE_DIR = ".stage-cache"
+
+
+def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, str], fresh: bool,
+                seconds: dict[str, float], say: Callable[[str], None]) -> dict[str, dict[str, Any]]:
+    """Run (or reuse from the stage cache) every stage in order; return {stage: {key, reused}}.
+
+    The cache sits beside the build folders (``<parent>/.stage-cache``); ``fresh`` executes every
+    stage (and still refreshes the cache). See :mod:`calcs.cache`.
+    """
+    from . import cache
+
+    store = cache.StageCache(target.parent / CACHE_DIR)
+    data = json.loads(resolved.read_text(encoding="utf-8"))
+    defaults = json.loads((resolved.parent / DEFAULTS_FILE).read_text(encoding="utf-8"))["defaults_used"]
+    weather_sha = next(v for k, v in inputs_sha.items() if k.startswith("weather/"))
+    code = cache.code_version()
+    upstream: dict[str, str] = {}
+    record: dict[str, dict[str, Any]] = {}
+    for number, stage in enumerate(STAGES, start=1):
+        key = cache.stage_key(stage, data, defaults, weather_sha, upstream, code)
+        t0 = time.perf_counter()
+        reused = not fresh and store.fetch(stage, key, work)
+        if reused:
+            say(f"[{number}/{len(STAGES)}] {stage} reused from the stage cache")
+        else:
+            say(f"[{number}/{len(STAGES)}] {stage} ...")
+            _run_stage(stage, resolved, work)
+            store.store(stage, key, work)
+        seconds[stage] = time.perf_counter() - t0
+        if not reused:
+            say(f"[{number}/{len(STAGES)}] {stage} done in {seconds[stage]:.1f} s")
+        upstream[stage] = cache.folder_digest(work / stage)
+        record[stage] = {"key": key, "reused": bool(reused), "outputs_digest": upstream[stage]}
+    return record
 
 
 def _run_stage(stage: str, resolved: Path, work: Path) -> None:
@@ -169,11 +243,11 @@ def merge_results(work: Path) -> dict[str, Any]:
 
 
 def write_manifest(
-    work: Path, project: Project, inputs_sha: dict[str, str], overrides: Sequence[str], started: str
+    work: Path, project: Project, inputs_sha: dict[str, str], overrides: Sequence[str], started: str,
+    extra: dict[str, Any] | None = None,
 ) -> dict[str, Any]:
-    """Write manifest.json: digests of inputs and outputs, versions, times, overrides."""
+    """Write manifest.json: digests of inputs and outputs, versions, times, overrides (+ ``extra`` keys)."""
     outputs = audit.hash_tree(work, tuple(STAGES) + ("notebooks", RESULTS_FILE))
-    deterministic = {k: v for k, v in outputs.items() if k.endswith((".csv", ".json"))}
     env = audit.environment()
     manifest = {
         "job_number": project.project.job_number,
@@ -186,8 +260,9 @@ def write_manifest(
         "inputs_sha256": inputs_sha,
         "outputs_sha256": outputs,
         "results_sha256": outputs[RESULTS_FILE],
-        "digest": audit.combined_digest(inputs_sha, deterministic),
+        "digest": audit.calculation_digest(inputs_sha, outputs),
         "overrides": list(overrides),
+        **(extra or {}),
         "started": started,
         "finished": _now(),
     }
@@ -196,23 +271,33 @@ def write_manifest(
 
 
 def render_into(folder: Path, project: Project, results: dict[str, Any], manifest: dict[str, Any],
-                signatures: list[dict[str, Any]] | None = None) -> Path:
-    """Render report.html into a build folder (atomically replacing any previous one)."""
+                signatures: list[dict[str, Any]] | None = None, *, pdf: bool | None = None) -> Path:
+    """Render report.html, its table exports and report.pdf into a build folder.
+
+    ``pdf``: write report.pdf (None: re-write it when the folder has one, as on signing). All are
+    rendered first and replace the previous files only when every one succeeded
+    (:func:`calcs.pdf.write_renderings`).
+    """
     audit_info = {
         **{k: manifest[k] for k in ("tool_version", "git_commit", "python", "packages", "inputs_sha256",
                                     "digest", "overrides", "started", "finished")},
         "parameters": flatten(project),
+        "stages": manifest.get("stages", {}),
     }
     extra = []
     if manifest["overrides"]:
         extra.append("CHECK RUN with overrides: " + "; ".join(manifest["overrides"]))
-    page = render_report(build_dir=folder, project=project, results=results, audit=audit_info,
-                         signatures=signatures, extra_cover=extra)
-    path = folder / "report.html"
-    tmp = path.with_suffix(".html.tmp")
-    tmp.write_text(page, encoding="utf-8")
-    os.replace(tmp, path)
-    return path
+    if manifest.get("revision_override"):
+        extra.append(f"Revision {manifest['revision_override']} was given on the command line (--new-revision); "
+                     "the project file was not changed")
+    from .compare import with_entered_revisions
+
+    shown = with_entered_revisions(project, manifest.get("decisions_entered"))
+    page = render_report(build_dir=folder, project=shown, results=results, audit=audit_info,
+                         signatures=signatures, extra_cover=extra, changes=manifest.get("changes_since_previous"))
+    from .pdf import paper_of, write_renderings
+
+    return write_renderings(folder, page, pdf=pdf, paper=paper_of(project))
 
 
 def _keep_failed(work: Path, target: Path) -> None:

@@ -23,6 +23,7 @@ import pydantic
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from .errors import ProjectError
+from .morph import FutureClimate
 
 PROJECT_FILE = "project.toml"
 RESOLVED_FILE = "project.resolved.json"
@@ -526,6 +527,9 @@ class Project(_Section):
     operation: Operation = _f(Operation(), meaning="How the building runs in mixed mode")
     energy: Energy = _f(Energy(), meaning="Plant, tariffs, carbon and costs for the energy comparison")
     uncertainty: Uncertainty = _f(Uncertainty(), meaning="Spreads of the uncertain inputs for the Monte Carlo run")
+    future_climate: FutureClimate | None = _f(
+        None, meaning="Monthly climate changes to morph the weather year by, for a second (future) climate column "
+        "in the climate stage; absent = today only")
     zones: tuple[Zone, ...] = _f(meaning="Zones of the building (at least one)", min_length=1)
     decisions: tuple[Decision, ...] = _f((), meaning="Decision log")
     signoff: SignOff = _f(SignOff(), meaning="Sign-off block as written in the project file")

@@ -98,6 +98,7 @@ def render_report(
     audit: dict[str, Any],
     signatures: list[dict[str, Any]] | None = None,
     extra_cover: list[str] | None = None,
+    changes: dict[str, Any] | None = None,
 ) -> str:
     """Render the whole report as one HTML string.
 
@@ -111,6 +112,11 @@ def render_report(
         The merged results.json content.
     audit : dict
         Tool and package versions, input digests, build times and parameters, for the appendix.
+    signatures : list of dict, optional
+        Signatures from ``signatures.json`` (role, name, note, time, digest), for the cover.
+    changes : dict, optional
+        Comparison with the previous revision (:func:`calcs.compare.compare_builds`), shown as
+        "Changes since revision …" when given.
     """
     toc: list[dict[str, Any]] = []
     sections = []
@@ -131,6 +137,8 @@ def render_report(
     signatures = signatures or []
     status = status_of(signatures)
     decisions = _decisions(project, results)
+    from .summary import executive_summary, read_defaults
+
     return template.render(
         project=project,
         info=project.project,
@@ -142,6 +150,8 @@ def render_report(
         decisions=decisions,
         audit=audit,
         extra_cover=extra_cover or [],
+        changes=changes,
+        summary=executive_summary(results, project, defaults=read_defaults(build_dir)),
     )
 
 
