@@ -67,6 +67,16 @@ def main() -> None:
             stages[stage].append(seconds)
         print(f"run {run + 1}: cold build {result.total_seconds:.2f} s  "
               + "  ".join(f"{s} {t:.2f}" for s, t in result.stage_seconds.items()))
+    with tempfile.TemporaryDirectory() as tmp:
+        cold = build(REPO / "demo_project", Path(tmp) / "P01", pdf=False)
+        t0 = time.perf_counter()
+        build(REPO / "demo_project", Path(tmp) / "P01", pdf=False)
+        unchanged = time.perf_counter() - t0
+        t0 = time.perf_counter()
+        build(REPO / "demo_project", Path(tmp) / "P01-tariff", pdf=False, overrides=["energy.electricity_price=0.3"])
+        tariff = time.perf_counter() - t0
+    print(f"cold build without PDF {cold.total_seconds:.2f} s; rebuild with nothing changed {unchanged:.2f} s; "
+          f"rebuild after a tariff change {tariff:.2f} s ({100 * tariff / cold.total_seconds:.0f} % of cold)")
     floors = [floor_seconds() for _ in range(args.repeat)]
     build_median, floor_median = statistics.median(totals), statistics.median(floors)
     print(f"cold build, median of {args.repeat}: {build_median:.2f} s (min {min(totals):.2f}, max {max(totals):.2f})")
