@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import atexit
 import datetime as dt
 import shutil
+import tempfile
 from pathlib import Path
 from typing import Any
 
@@ -13,7 +15,24 @@ from calcs.weather import write_epw
 from public_data import tmy3_frame
 
 REPO = Path(__file__).resolve().parents[1]
-DEMO = REPO / "demo_project"
+DEMO_SOURCE = REPO / "demo_project"
+
+
+def _quick_demo() -> Path:
+    """A copy of the demo project with a 50-sample Monte Carlo run (the demo itself uses 500).
+
+    The end-to-end tests build the demo several times; the Monte Carlo batch dominates a build,
+    and its code path does not depend on the sample count. `make demo` builds the real demo.
+    """
+    folder = Path(tempfile.mkdtemp(prefix="freerun-demo-")) / "demo_project"
+    shutil.copytree(DEMO_SOURCE, folder)
+    with open(folder / "project.toml", "a", encoding="utf-8") as handle:
+        handle.write("\n[uncertainty]\nsamples = 50  # tests only: keeps end-to-end builds quick\n")
+    atexit.register(shutil.rmtree, folder.parent, True)
+    return folder
+
+
+DEMO = _quick_demo()
 CALENDAR_YEAR = 2026
 
 
