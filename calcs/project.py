@@ -17,10 +17,11 @@ import re
 import tomllib
 import typing
 from pathlib import Path
-from typing import Any, Literal
+from collections.abc import Callable
+from typing import Annotated, Any, Literal
 
 import pydantic
-from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
+from pydantic import AfterValidator, BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from .errors import ProjectError
 from .morph import FutureClimate
@@ -31,6 +32,23 @@ RESOLVED_FILE = "project.resolved.json"
 WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
 _SAFE_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
 _CLOCK = re.compile(r"^([01]\d|2[0-4]):00$")
+
+
+def _whole_hour(latest: str) -> Callable[[str], str]:
+    """Validator: a whole hour written HH:00, from 00:00 to ``latest``."""
+
+    def check(value: str) -> str:
+        if not _CLOCK.match(value) or value > latest:
+            msg = f"must be a whole hour written HH:00, from 00:00 to {latest}"
+            raise ValueError(msg)
+        return value
+
+    return check
+
+
+#: A clock hour that may end a day (24:00), and one that may not.
+HourOfDay = Annotated[str, AfterValidator(_whole_hour("24:00"))]
+HourOfNight = Annotated[str, AfterValidator(_whole_hour("23:00"))]
 
 
 def _f(default: Any = ..., meaning: str = "", unit: str = "", source: str = "", **kw: Any) -> Any:
@@ -79,21 +97,13 @@ class Occupancy(_Section):
     days: tuple[Literal["mon", "tue", "wed", "thu", "fri", "sat", "sun"], ...] = _f(
         ("mon", "tue", "wed", "thu", "fri"), meaning="Occupied days of the week", min_length=1
     )
-    start: str = _f("08:00", meaning="Start of the occupied period, on the hour (HH:00)", unit="local standard time")
-    end: str = _f("18:00", meaning="End of the occupied period, on the hour (HH:00); later than start",
+    start: HourOfDay = _f("08:00", meaning="Start of the occupied period, on the hour (HH:00)", unit="local standard time")
+    end: HourOfDay = _f("18:00", meaning="End of the occupied period, on the hour (HH:00); later than start",
                   unit="local standard time")
     holidays: tuple[dt.date, ...] = _f((), meaning="Dates with no occupancy (YYYY-MM-DD) in calendar_year")
     calendar_year: int = _f(
         2026, meaning="Calendar year a typical-year weather file is stamped onto (sets weekdays)", ge=1900, le=2200
     )
-
-    @field_validator("start", "end")
-    @classmethod
-    def _clock(cls, value: str) -> str:
-        if not _CLOCK.match(value):
-            msg = "must be a whole hour written HH:00, from 00:00 to 24:00"
-            raise ValueError(msg)
-        return value
 
     @property
     def start_hour(self) -> int:
@@ -133,8 +143,8 @@ class Outdoor(_Section):
         0.5, meaning="Rain above which openings close (rain is skipped when the weather file has none)",
         unit="mm/h", source="design assumption, no published source; set per project", ge=0, le=100,
     )
-    night_start: str = _f("22:00", meaning="Start of the night used for night-cooling potential (HH:00)")
-    night_end: str = _f("07:00", meaning="End of the night used for night-cooling potential (HH:00)")
+    night_start: HourOfNight = _f("22:00", meaning="Start of the night used for night-cooling potential (HH:00)")
+    night_end: HourOfNight = _f("07:00", meaning="End of the night used for night-cooling potential (HH:00)")
     night_cooling_below: float = _f(
         18.0, meaning="A night counts as useful for night cooling when its minimum falls below this",
         unit="°C", source="design assumption, no published source; set per project", ge=-10, le=35,
@@ -151,14 +161,6 @@ class Outdoor(_Section):
         50.0, meaning="A month 'can open up' when at least this share of its occupied hours is suitable",
         unit="%", source="design assumption, no published source", gt=0, le=100,
     )
-
-    @field_validator("night_start", "night_end")
-    @classmethod
-    def _clock(cls, value: str) -> str:
-        if not _CLOCK.match(value) or value == "24:00":
-            msg = "must be a whole hour written HH:00, from 00:00 to 23:00"
-            raise ValueError(msg)
-        return value
 
     @model_validator(mode="after")
     def _order(self) -> "Outdoor":
@@ -409,8 +411,8 @@ class Operation(_Section):
     fan_power: float = _f(2.0, meaning="Electrical power of the ceiling fans while running (also a heat gain)",
                           unit="W/m²", ge=0, le=20, source="design assumption, no published source")
     night_purge: bool = _f(False, meaning="Open secure openings at night to cool the thermal mass")
-    night_purge_start: str = _f("22:00", meaning="Earliest hour for night cooling (HH:00)")
-    night_purge_end: str = _f("07:00", meaning="Latest hour for night cooling, exclusive (HH:00)")
+    night_purge_start: HourOfNight = _f("22:00", meaning="Earliest hour for night cooling (HH:00)")
+    night_purge_end: HourOfNight = _f("07:00", meaning="Latest hour for night cooling, exclusive (HH:00)")
     night_purge_min_outdoor: float = _f(12.0, meaning="No night cooling with outdoor air colder than this",
                                         unit="°C", ge=-10, le=30, source="design assumption, no published source")
     night_purge_low_setpoint: float = _f(19.0, meaning="Night cooling throttles and stops below this indoor "
@@ -418,14 +420,6 @@ class Operation(_Section):
                                          source="design assumption, no published source")
     tm52_category: Literal["I", "II", "III"] = _f("II", meaning="CIBSE TM52 building category",
                                                   source="CIBSE TM52:2013 (category II for new buildings)")
-
-    @field_validator("night_purge_start", "night_purge_end")
-    @classmethod
-    def _clock(cls, value: str) -> str:
-        if not _CLOCK.match(value) or value == "24:00":
-            msg = "must be a whole hour written HH:00, from 00:00 to 23:00"
-            raise ValueError(msg)
-        return value
 
     @model_validator(mode="after")
     def _order(self) -> "Operation":
@@ -436,17 +430,9 @@ class Operation(_Section):
 
 
 class TimeOfUse(_Section):
-    start: str = _f(meaning="Start of the period, every day (HH:00)")
-    end: str = _f(meaning="End of the period, exclusive (HH:00); earlier than start runs over midnight")
+    start: HourOfDay = _f(meaning="Start of the period, every day (HH:00)")
+    end: HourOfDay = _f(meaning="End of the period, exclusive (HH:00); earlier than start runs over midnight")
     price: float = _f(meaning="Electricity price in the period", unit="currency/kWh", ge=0, le=100)
-
-    @field_validator("start", "end")
-    @classmethod
-    def _clock(cls, value: str) -> str:
-        if not _CLOCK.match(value):
-            msg = "must be a whole hour written HH:00, from 00:00 to 24:00"
-            raise ValueError(msg)
-        return value
 
 
 class Energy(_Section):
