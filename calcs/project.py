@@ -502,6 +502,18 @@ class Uncertainty(_Section):
                              source="design assumption, no published source")
 
 
+class Report(_Section):
+    paper: str = _f("A4", meaning="Page size of report.pdf: A4 or Letter")
+
+    @field_validator("paper")
+    @classmethod
+    def _paper(cls, value: str) -> str:
+        if value.strip().lower() not in ("a4", "letter"):
+            msg = "allowed values are 'A4' and 'Letter'"
+            raise ValueError(msg)
+        return "A4" if value.strip().lower() == "a4" else "Letter"
+
+
 class Project(_Section):
     """The whole project file."""
 
@@ -513,6 +525,7 @@ class Project(_Section):
     operation: Operation = _f(Operation(), meaning="How the building runs in mixed mode")
     energy: Energy = _f(Energy(), meaning="Plant, tariffs, carbon and costs for the energy comparison")
     uncertainty: Uncertainty = _f(Uncertainty(), meaning="Spreads of the uncertain inputs for the Monte Carlo run")
+    report: Report = _f(Report(), meaning="How the report is printed")
     future_climate: FutureClimate | None = _f(
         None, meaning="Monthly climate changes to morph the weather year by, for a second (future) climate column "
         "in the climate stage; absent = today only")
