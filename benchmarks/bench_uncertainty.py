@@ -33,9 +33,10 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--samples", type=int, default=500)
     parser.add_argument("--repeat", type=int, default=2)
+    parser.add_argument("--from-build", type=Path, help="an existing build folder of the demo (skips the build)")
     args = parser.parse_args()
     with tempfile.TemporaryDirectory() as tmp:
-        out = build(REPO / "demo_project", Path(tmp) / "P01").folder
+        out = args.from_build or build(REPO / "demo_project", Path(tmp) / "P01", pdf=False).folder
         project = load_project(out / "inputs" / "project.resolved.json")
         ch = read_table(out / "climate" / "hourly.csv")
         gains = read_table(out / "loads" / "hourly_gains.csv")

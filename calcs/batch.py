@@ -29,6 +29,8 @@ VARIANT_KEYS: dict[str, Any] = {
     "mass_class": None,  # thermal mass class for every zone
     "fans": None,  # ceiling fans on/off
     "criterion": None,  # changeover criterion
+    "seer_scale": 1.0,  # cooling efficiency multiplier (energy accounts only) [-]
+    "price_scale": 1.0,  # energy price multiplier (energy accounts only) [-]
 }
 
 
@@ -55,6 +57,8 @@ class Batch:
     criterion: list[str]  # (n,)
     openings: np.ndarray  # (n,) count of openable openings (actuators)
     variants: list[dict[str, Any]] = field(default_factory=list)
+    seer_scale: np.ndarray | float = 1.0  # (n,) cooling efficiency multiplier of each column
+    price_scale: np.ndarray | float = 1.0  # (n,) energy price multiplier of each column
 
 
 def zone_internal_gains(index: pd.DatetimeIndex, occupied: pd.Series, zone: Any) -> pd.DataFrame:
@@ -123,7 +127,7 @@ def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.Dat
     cols: dict[str, list] = {k: [] for k in ("zone", "variant", "area", "occ", "internal", "solar", "free", "secure",
                                              "infiltration", "fresh", "day", "night", "fans", "criterion", "mass",
                                              "h_op", "h_w", "arrangement", "height", "stack", "cd", "wind_bld",
-                                             "openings")}
+                                             "openings", "seer_scale", "price_scale")}
     for v, raw in enumerate(variants):
         change = {**VARIANT_KEYS, **dict(raw)}
         unknown = set(raw) - set(VARIANT_KEYS)
@@ -167,6 +171,8 @@ def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.Dat
             cols["cd"].append(float(row["discharge_coefficient"]))
             cols["wind_bld"].append(wind_at_zone[z])
             cols["openings"].append(sum(o.count for o in zone.openings))
+            cols["seer_scale"].append(float(change["seer_scale"]))
+            cols["price_scale"].append(float(change["price_scale"]))
     stack2 = lambda key: np.column_stack(cols[key]) if cols[key] else np.zeros((T, 0))  # noqa: E731
     areas = np.array(cols["area"], dtype=float)
     params = thermal.zone_parameters(areas, np.array(cols["h_op"]), np.array(cols["h_w"]), cols["mass"])
@@ -183,6 +189,7 @@ def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.Dat
         infiltration=np.array(cols["infiltration"]), fresh=stack2("fresh"), allowed_day=stack2("day").astype(bool),
         allowed_night=stack2("night").astype(bool), fans=np.array(cols["fans"], dtype=bool),
         criterion=cols["criterion"], openings=np.array(cols["openings"]), variants=[dict(v) for v in variants],
+        seer_scale=np.array(cols["seer_scale"], dtype=float), price_scale=np.array(cols["price_scale"], dtype=float),
     )
 
 
@@ -268,15 +275,16 @@ def energy_accounts(batch: Batch, project: Any, index: pd.DatetimeIndex, temp_ai
     """Energy by end use, cost and carbon of the baseline and mixed-mode years (see :mod:`calcs.energy`).
 
     ``seer_scale`` and ``price_scale`` (scalars or (n,) arrays) scale the cooling efficiency and
-    every energy price, for the sensitivity and uncertainty studies.
+    every energy price, for the sensitivity and uncertainty studies, on top of the variants' own
+    ``seer_scale`` and ``price_scale``.
     """
     from . import energy
 
     en, op = project.energy, project.operation
-    seer = en.cooling_seer * np.asarray(seer_scale, dtype=float)
+    seer = en.cooling_seer * np.asarray(seer_scale, dtype=float) * batch.seer_scale
     price_el = energy.hourly_price(index, en.electricity_price,
                                    [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
-    scale = np.asarray(price_scale, dtype=float)
+    scale = np.asarray(price_scale, dtype=float) * batch.price_scale
     month = index.month.to_numpy()
     occ = batch.occupied
     nv = nv_mode & occ
@@ -326,3 +334,87 @@ def capital_cost(batch: Batch, project: Any, peak_cooling_baseline_w, peak_cooli
     plant_saving = np.maximum(np.asarray(peak_cooling_baseline_w) - np.asarray(peak_cooling_mixed_w), 0.0) / 1000
     return (batch.free_area * en.openable_area_cost + batch.openings * en.actuator_cost + en.controls_cost + fans
             - plant_saving * en.plant_cost)
+
+
+# --------------------------------------------------------------------------- many variants
+
+
+@dataclass(frozen=True)
+class StageInputs:
+    """What a run of variants needs from the project and the earlier stages (picklable, sent to workers)."""
+
+    project: Any
+    climate_hourly: pd.DataFrame
+    gains_hourly: pd.DataFrame
+    loads: Mapping[str, Any]
+    openings: pd.DataFrame
+
+
+def run_variants(inputs: StageInputs, variants: Sequence[Mapping[str, Any]] = ({},)):
+    """Every step for the columns of ``variants``: (batch, nv modes, operating years, accounts)."""
+    ch = inputs.climate_hourly
+    temp_air = ch["temp_air"].to_numpy()
+    b = build_batch(inputs.project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, variants)
+    free = free_running(b, inputs.project, temp_air)
+    modes = changeover(b, inputs.project, ch, free.result.temp_op)
+    years = operating_years(b, inputs.project, temp_air, modes)
+    acc = energy_accounts(b, inputs.project, ch.index, temp_air, years, modes)
+    return b, modes, years, acc
+
+
+#: Columns of :func:`variant_totals`, one row per variant (whole building).
+TOTAL_COLUMNS = ("baseline_kWh", "mixed_kWh", "baseline_cost", "mixed_cost", "baseline_co2", "mixed_co2",
+                 "nv_mode_pct")
+
+
+def variant_totals(b: Batch, modes: np.ndarray, acc: Accounts) -> pd.DataFrame:
+    """Whole-building annual totals of each variant of a run.
+
+    Delivered energy [kWh], running cost with the demand charge [currency] and carbon [kg CO2e]
+    of both schemes, and the natural-ventilation hours as a share of occupied hours [%],
+    floor-area weighted over the zones.
+    """
+    rows = []
+    for v in range(int(b.variant.max()) + 1):
+        cols = np.flatnonzero(b.variant == v)
+        row = {}
+        for scheme in ("baseline", "mixed"):
+            row[scheme + "_kWh"] = float(sum(acc.kwh[scheme][u][cols].sum() for u in END_USES))
+            row[scheme + "_cost"] = float(acc.cost[scheme][cols].sum() + acc.demand_cost[scheme][v])
+            row[scheme + "_co2"] = float(acc.carbon[scheme][cols].sum())
+        occ = b.occupied[:, cols]
+        weight = b.areas[cols] / b.areas[cols].sum()
+        row["nv_mode_pct"] = float(sum(w * 100 * modes[occ[:, i], c].mean()
+                                       for i, (c, w) in enumerate(zip(cols, weight))))
+        rows.append(row)
+    return pd.DataFrame(rows, columns=list(TOTAL_COLUMNS))
+
+
+def _totals_of_chunk(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
+    b, modes, _, acc = run_variants(inputs, variants)
+    return variant_totals(b, modes, acc)
+
+
+#: Columns (zones × variants) per chunk of a sweep: big enough to keep the compiled loops busy,
+#: small enough that a chunk's hourly arrays stay a few megabytes.
+CHUNK_COLUMNS = 96
+
+
+def sweep_totals(inputs: StageInputs, variants: Sequence[Mapping[str, Any]], *, scheduler: str | None = None,
+                 jobs: int | None = None, chunk_columns: int = CHUNK_COLUMNS) -> pd.DataFrame:
+    """:func:`variant_totals` of many variants, in chunks run by :func:`calcs.sweep.map_chunks`.
+
+    The variants are cut into chunks of about ``chunk_columns`` columns (whole variants: a
+    variant's demand charge needs all its zones); each chunk runs every step on its own, so the
+    table is the same whichever way the chunks ran (local process pool by default, or Dask).
+    Returns one row per variant, in the order given, index ``variant``.
+    """
+    from . import sweep
+
+    variants = [dict(v) for v in variants]
+    per_chunk = max(1, chunk_columns // max(1, len(inputs.project.zones)))
+    chunks = [variants[i:i + per_chunk] for i in range(0, len(variants), per_chunk)]
+    parts = sweep.map_chunks(_totals_of_chunk, chunks, context=inputs, scheduler=scheduler, jobs=jobs)
+    table = pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(columns=list(TOTAL_COLUMNS))
+    table.index.name = "variant"
+    return table

@@ -3,8 +3,9 @@
 1. Validate the project file (with any ``--set`` overrides) and the weather file.
 2. Copy the inputs into a fresh temporary build folder beside the target and
    write the resolved project (every parameter as used).
-3. Execute the five stage templates in order with papermill; each writes its
-   tables, charts and results fragment into ``<build>/<stage>/``.
+3. Execute the five stage templates with papermill, each as soon as the stages it
+   reads are done (comfort and energy side by side), or reuse them from the stage
+   cache; each writes its tables, charts and results fragment into ``<build>/<stage>/``.
 4. Merge the fragments into ``results.json``, write ``manifest.json`` and
    render ``report.html``.
 5. Only then move the finished folder into place. A failed stage leaves the
@@ -14,6 +15,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
 import json
 import os
@@ -28,7 +30,7 @@ from typing import Any
 
 from . import audit
 from .errors import FreerunError, StageError
-from .paths import STAGES
+from .paths import STAGE_UPSTREAM, STAGES
 from .project import DEFAULTS_FILE, PROJECT_FILE, RESOLVED_FILE, Project, defaults_used, flatten, load_project
 from .report import render_report
 from .stage import dump_json, run_template
@@ -118,13 +120,17 @@ def build(
     pdf: bool = True,
     fresh: bool = False,
     progress: Callable[[str], None] | None = None,
+    scheduler: str | None = None,
+    jobs: int | None = None,
 ) -> BuildResult:
     """Build the report of a project folder. See the module docstring for the steps.
 
     ``project_dir`` may also be a build's ``inputs/project.resolved.json`` (re-execution of a
     recorded calculation; no overrides then). ``new_revision`` builds the project as revision
     ``new_revision`` (recorded in the manifest as ``revision_override``). A build folder holding
-    signatures is never rebuilt (:func:`calcs.signoff.refuse_if_signed`).
+    signatures is never rebuilt (:func:`calcs.signoff.refuse_if_signed`). ``scheduler`` and
+    ``jobs`` say where the energy stage's sensitivity and uncertainty batches run
+    (:func:`calcs.sweep.map_chunks`; default a local process pool); they never change a result.
     """
     from .compare import record_history
     from .signoff import refuse_if_signed
@@ -140,6 +146,17 @@ def build(
         msg = (f"--new-revision {new_revision!r}: a revision is 1–64 letters, digits, '.', '_' or '-' "
                "starting with a letter or digit (it names a folder)")
         raise FreerunError(msg)
+    from . import sweep
+
+    sweep.check_scheduler(scheduler)
+    sweep.check_jobs(jobs)
+    if scheduler is not None:
+        try:
+            import dask.distributed  # noqa: F401
+        except ImportError:
+            msg = ("--scheduler needs the optional Dask extra, which is not installed: "
+                   "pip install 'freerun[dask]' (or build without --scheduler for the local process pool)")
+            raise FreerunError(msg) from None
     revision_set = [f"project.revision={json.dumps(new_revision)}"] if new_revision is not None else []
     project_file, project = validate_inputs(project_dir, [*overrides, *revision_set])
     from .pdf import paper_of
@@ -159,11 +176,13 @@ def build(
         inputs_sha = prepare_inputs(project_file, project, work, overrides)
         resolved = work / INPUTS / RESOLVED_FILE
         seconds: dict[str, float] = {}
-        stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
+        with _sweep_environment(scheduler, jobs):
+            stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
         results = merge_results(work)
         (work / RESULTS_FILE).write_text(dump_json(results), encoding="utf-8")
         manifest = write_manifest(work, project, inputs_sha, overrides, started,
-                                  extra={"revision_override": new_revision, "stages": stages})
+                                  extra={"revision_override": new_revision, "stages": stages,
+                                         "batches_ran_on": sweep.describe(scheduler, jobs)})
         manifest = record_history(work, target, manifest)
         say("rendering report" + (", PDF" if pdf else "") + " and table exports ...")
         t0 = time.perf_counter()
@@ -184,13 +203,36 @@ def build(
 CACHE_DIR = ".stage-cache"
 
 
+@contextlib.contextmanager
+def _sweep_environment(scheduler: str | None, jobs: int | None):
+    """Tell the stage kernels (child processes) where to run their batches, for this build only."""
+    from . import sweep
+
+    saved = {k: os.environ.get(k) for k in (sweep.SCHEDULER_ENV, sweep.JOBS_ENV)}
+    os.environ[sweep.SCHEDULER_ENV] = scheduler or ""
+    os.environ[sweep.JOBS_ENV] = "" if jobs is None else str(jobs)
+    try:
+        yield
+    finally:
+        for k, v in saved.items():
+            if v is None:
+                os.environ.pop(k, None)
+            else:
+                os.environ[k] = v
+
+
 def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, str], fresh: bool,
                 seconds: dict[str, float], say: Callable[[str], None]) -> dict[str, dict[str, Any]]:
-    """Run (or reuse from the stage cache) every stage in order; return {stage: {key, reused}}.
+    """Run (or reuse from the stage cache) every stage; return {stage: {key, reused, outputs_digest}}.
 
+    Stages run as soon as the stages they read (:data:`calcs.paths.STAGE_UPSTREAM`) are done,
+    so independent stages (comfort and energy) execute at the same time, each in its own kernel.
     The cache sits beside the build folders (``<parent>/.stage-cache``); ``fresh`` executes every
-    stage (and still refreshes the cache). See :mod:`calcs.cache`.
+    stage (and still refreshes the cache). See :mod:`calcs.cache`. If a stage fails, the stages
+    already running finish and the first failure is raised.
     """
+    from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
+
     from . import cache
 
     store = cache.StageCache(target.parent / CACHE_DIR)
@@ -200,22 +242,48 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
     code = cache.code_version()
     upstream: dict[str, str] = {}
     record: dict[str, dict[str, Any]] = {}
-    for number, stage in enumerate(STAGES, start=1):
+    total = len(STAGES)
+
+    def one(stage: str) -> tuple[str, str, bool]:
+        number = STAGES.index(stage) + 1
         key = cache.stage_key(stage, data, defaults, weather_sha, upstream, code)
         t0 = time.perf_counter()
         reused = not fresh and store.fetch(stage, key, work)
         if reused:
-            say(f"[{number}/{len(STAGES)}] {stage} reused from the stage cache")
+            say(f"[{number}/{total}] {stage} reused from the stage cache")
         else:
-            say(f"[{number}/{len(STAGES)}] {stage} ...")
+            say(f"[{number}/{total}] {stage} ...")
             _run_stage(stage, resolved, work)
             store.store(stage, key, work)
         seconds[stage] = time.perf_counter() - t0
         if not reused:
-            say(f"[{number}/{len(STAGES)}] {stage} done in {seconds[stage]:.1f} s")
-        upstream[stage] = cache.folder_digest(work / stage)
-        record[stage] = {"key": key, "reused": bool(reused), "outputs_digest": upstream[stage]}
-    return record
+            say(f"[{number}/{total}] {stage} done in {seconds[stage]:.1f} s")
+        return stage, key, bool(reused)
+
+    pending = list(STAGES)
+    running: dict[Any, str] = {}
+    failure: BaseException | None = None
+    with ThreadPoolExecutor(max_workers=len(STAGES)) as pool:
+        while pending or running:
+            if failure is None:
+                for stage in [s for s in pending if all(u in upstream for u in STAGE_UPSTREAM[s])]:
+                    pending.remove(stage)
+                    running[pool.submit(one, stage)] = stage
+            if not running:
+                break
+            done, _ = wait(running, return_when=FIRST_COMPLETED)
+            for future in done:
+                running.pop(future)
+                try:
+                    stage, key, reused = future.result()
+                except BaseException as exc:  # noqa: BLE001 - re-raised once the others finish
+                    failure = failure or exc
+                    continue
+                upstream[stage] = cache.folder_digest(work / stage)
+                record[stage] = {"key": key, "reused": reused, "outputs_digest": upstream[stage]}
+    if failure is not None:
+        raise failure
+    return {stage: record[stage] for stage in STAGES}
 
 
 def _run_stage(stage: str, resolved: Path, work: Path) -> None:

@@ -25,7 +25,7 @@ from pathlib import Path
 from typing import Any
 
 from .audit import sha256_file
-from .paths import STAGES, stage_template
+from .paths import STAGE_UPSTREAM, stage_template
 
 #: Project sections each stage reads (its own inputs).
 STAGE_SECTIONS: dict[str, tuple[str, ...]] = {
@@ -69,7 +69,7 @@ def stage_key(stage: str, resolved: dict[str, Any], defaults: list[dict[str, Any
         "inputs": own,
         "defaults": own_defaults,
         "weather": weather_sha if stage == "climate" else "",
-        "upstream": {s: upstream[s] for s in STAGES[: STAGES.index(stage)]},
+        "upstream": {s: upstream[s] for s in STAGE_UPSTREAM[stage]},
     }
     return hashlib.sha256(json.dumps(payload, sort_keys=True, default=str).encode()).hexdigest()
 

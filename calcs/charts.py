@@ -51,6 +51,54 @@ def render_png(chart: alt.TopLevelMixin, scale: float = 2.0) -> bytes:
     return vl_convert.vegalite_to_png(chart.to_json(), scale=scale)
 
 
+class BackgroundCharts:
+    """Renders a stage's charts in a background thread while the notebook goes on.
+
+    vl-convert releases the interpreter lock while it renders, so the kernel keeps calculating.
+    :meth:`show` serialises the chart at once (later changes to its data cannot leak in) and
+    shows a placeholder output in the notebook; the thread renders the PNG and writes it to the
+    stage folder. :meth:`wait` — called by ``Stage.finish`` in the template's last cell — waits
+    for every chart, re-raises the first rendering error, and replaces each placeholder with its
+    image (an IPython display update sent from the kernel's main thread, so the notebook client
+    records it in the executed notebook).
+    """
+
+    def __init__(self) -> None:
+        from concurrent.futures import ThreadPoolExecutor
+
+        self._pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="charts")
+        self._pending: list = []
+
+    def show(self, chart: alt.TopLevelMixin, path, alt_text: str, scale: float = 2.0) -> None:
+        """Render ``chart`` to ``path`` (PNG) in the background and show it under ``alt_text``."""
+        from pathlib import Path
+
+        from IPython.display import display
+
+        spec = chart.to_json()
+        handle = display({"text/plain": f"{alt_text} (chart rendering)"}, raw=True, display_id=True)
+
+        def job() -> bytes:
+            import vl_convert
+
+            png = vl_convert.vegalite_to_png(spec, scale=scale)
+            Path(path).write_bytes(png)
+            return png
+
+        self._pending.append((handle, alt_text, self._pool.submit(job)))
+
+    def wait(self) -> int:
+        """Wait for every chart and show it; returns how many. Re-raises a rendering error."""
+        import base64
+
+        pending, self._pending = self._pending, []
+        for handle, alt_text, future in pending:
+            png = future.result()
+            if handle is not None:
+                handle.update({"image/png": base64.b64encode(png).decode("ascii"), "text/plain": alt_text}, raw=True)
+        return len(pending)
+
+
 def day_hour_map(
     index: pd.DatetimeIndex,
     category: Sequence[str],

@@ -24,6 +24,7 @@ from pathlib import Path
 
 from . import __version__
 from . import screen_cli as _screen_verb
+from .screen_cli import _positive_int
 from .errors import FreerunError, StageError
 
 EXIT_OK, EXIT_CHECKS_FAILED, EXIT_BAD_INPUT, EXIT_STAGE_FAILED = 0, 1, 2, 3
@@ -78,6 +79,11 @@ def _parser() -> argparse.ArgumentParser:
                        help="write no report.pdf (report.html and the table exports in exports/ are always written)")
     build.add_argument("--fresh", action="store_true",
                        help="execute every stage, reusing nothing from the stage cache (build/<job>/.stage-cache/)")
+    build.add_argument("--jobs", type=_positive_int, metavar="N",
+                       help="worker processes for the sensitivity and uncertainty batches (default: CPU count)")
+    build.add_argument("--scheduler", metavar="ADDRESS",
+                       help="run those batches on a Dask distributed cluster: a scheduler address (tcp://host:8786) "
+                            "or 'local-cluster' to start one on this machine (needs the optional dask extra)")
     build.add_argument("--quiet", action="store_true", help="print no progress")
 
     compare = verbs.add_parser(
@@ -183,7 +189,7 @@ def _build(args: argparse.Namespace) -> int:
             print(text, file=sys.stderr, flush=True)
 
     result = build(args.project, args.out, overrides=args.overrides, new_revision=args.new_revision,
-                   pdf=not args.no_pdf, fresh=args.fresh, progress=say)
+                   pdf=not args.no_pdf, fresh=args.fresh, progress=say, scheduler=args.scheduler, jobs=args.jobs)
     print(result.folder / "report.html")
     return EXIT_OK
 

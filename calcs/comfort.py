@@ -225,10 +225,12 @@ def _wrap(values: np.ndarray, index: pd.Index | None, scalar: bool, name: str):
 
 
 def _air_speed_increase(air_speed: np.ndarray, temp_op: np.ndarray) -> np.ndarray:
-    """Increase of the upper adaptive limits for elevated air speed [K]."""
+    """Increase of the upper adaptive limits for elevated air speed [K] (shapes broadcast)."""
     step = np.zeros_like(air_speed, dtype=float)
     for threshold, increase in reversed(_AIR_SPEED_STEPS):
         step = np.where(air_speed >= threshold, increase, step)
+    if not step.any():
+        return np.zeros(np.broadcast_shapes(step.shape, np.shape(temp_op)))
     return np.where(temp_op > _AIR_SPEED_TEMP_OP, step, 0.0)
 
 
@@ -367,19 +369,45 @@ def adaptive_ashrae55(temp_op, prevailing_mean, air_speed=0.1) -> pd.DataFrame:
     t_o, t_pma, v = arrays["temp_op"], arrays["prevailing_mean"], arrays["air_speed"]
     _check_air_speed("air_speed", v)
 
-    comfort = _ASHRAE_SLOPE * t_pma + _ASHRAE_INTERCEPT
-    increase = _air_speed_increase(v, t_o)
-    in_range = (t_pma >= _ASHRAE_VALID[0]) & (t_pma <= _ASHRAE_VALID[1])
-    cols: dict[str, np.ndarray] = {"comfort_temp": comfort}
-    for level, half in _ASHRAE_HALF_WIDTH.items():
-        cols[f"lower_{level}"] = comfort - half
-        cols[f"upper_{level}"] = comfort + half + increase
-    cols["air_speed_increase"] = increase
+    cols: dict[str, np.ndarray] = {"comfort_temp": _ASHRAE_SLOPE * t_pma + _ASHRAE_INTERCEPT}
+    for level in _ASHRAE_HALF_WIDTH:
+        cols[f"lower_{level}"], cols[f"upper_{level}"], in_range = ashrae55_limits(t_o, t_pma, v, level)
+    cols["air_speed_increase"] = _air_speed_increase(v, t_o)
     for level in _ASHRAE_HALF_WIDTH:
         within = (t_o >= cols[f"lower_{level}"]) & (t_o <= cols[f"upper_{level}"])
         cols[f"ok_{level}"] = within & in_range
     cols["in_range"] = in_range
     return _frame(cols, index)
+
+
+def ashrae55_limits(temp_op, prevailing_mean, air_speed, level: str = "80"):
+    """Lower and upper limits of ASHRAE 55 adaptive comfort, broadcasting (no frame, no checks).
+
+    The array core of :func:`adaptive_ashrae55` for large batches: ``temp_op`` (any shape)
+    only decides the air-speed increase (above 25 °C operative); ``prevailing_mean`` and
+    ``air_speed`` broadcast against it. Returns (lower, upper, in_range) arrays [°C], [°C], bool.
+    """
+    t_pma = np.asarray(prevailing_mean, dtype=float)
+    comfort = _ASHRAE_SLOPE * t_pma + _ASHRAE_INTERCEPT
+    half = _ASHRAE_HALF_WIDTH[level]
+    increase = _air_speed_increase(np.asarray(air_speed, dtype=float), np.asarray(temp_op, dtype=float))
+    in_range = (t_pma >= _ASHRAE_VALID[0]) & (t_pma <= _ASHRAE_VALID[1])
+    return comfort - half, comfort + half + increase, in_range
+
+
+def en16798_limits(temp_op, running_mean, air_speed, category=2):
+    """Lower and upper limits of EN 16798-1 adaptive comfort, broadcasting (no frame, no checks).
+
+    The array core of :func:`adaptive_en16798` for large batches (as :func:`ashrae55_limits`).
+    Returns (lower, upper, in_range_lower, in_range_upper).
+    """
+    t_rm = np.asarray(running_mean, dtype=float)
+    comfort = _EN_SLOPE * t_rm + _EN_INTERCEPT
+    below, above = _EN_OFFSETS[int(category)]
+    increase = _air_speed_increase(np.asarray(air_speed, dtype=float), np.asarray(temp_op, dtype=float))
+    in_upper = (t_rm > _EN_VALID_UPPER[0]) & (t_rm < _EN_VALID_UPPER[1])
+    in_lower = (t_rm > _EN_VALID_LOWER[0]) & (t_rm < _EN_VALID_LOWER[1])
+    return comfort - below, comfort + above + increase, in_lower, in_upper
 
 
 def adaptive_en16798(temp_op, running_mean, air_speed=0.1) -> pd.DataFrame:
@@ -445,15 +473,10 @@ def adaptive_en16798(temp_op, running_mean, air_speed=0.1) -> pd.DataFrame:
     t_o, t_rm, v = arrays["temp_op"], arrays["running_mean"], arrays["air_speed"]
     _check_air_speed("air_speed", v)
 
-    comfort = _EN_SLOPE * t_rm + _EN_INTERCEPT
-    increase = _air_speed_increase(v, t_o)
-    in_upper = (t_rm > _EN_VALID_UPPER[0]) & (t_rm < _EN_VALID_UPPER[1])
-    in_lower = (t_rm > _EN_VALID_LOWER[0]) & (t_rm < _EN_VALID_LOWER[1])
-    cols: dict[str, np.ndarray] = {"comfort_temp": comfort}
-    for cat, (below, above) in _EN_OFFSETS.items():
-        cols[f"lower_cat{cat}"] = comfort - below
-        cols[f"upper_cat{cat}"] = comfort + above + increase
-    cols["air_speed_increase"] = increase
+    cols: dict[str, np.ndarray] = {"comfort_temp": _EN_SLOPE * t_rm + _EN_INTERCEPT}
+    for cat in _EN_OFFSETS:
+        cols[f"lower_cat{cat}"], cols[f"upper_cat{cat}"], in_lower, in_upper = en16798_limits(t_o, t_rm, v, cat)
+    cols["air_speed_increase"] = _air_speed_increase(v, t_o)
     for cat in _EN_OFFSETS:
         lower, upper = cols[f"lower_cat{cat}"], cols[f"upper_cat{cat}"]
         above_upper = t_o > upper  # False for NaN

@@ -108,11 +108,8 @@ def full_opening_flow(coefficients: FlowCoefficients, hour: int, free_area, temp
     temp_air : float
         Outdoor air temperature [°C].
     """
-    temp_in = np.asarray(temp_in, dtype=float)
-    delta = np.abs(temp_in - temp_air)
-    mean_abs = (temp_in + temp_air) / 2 + KELVIN
-    stack = coefficients.stack * np.sqrt(delta / _REF_DELTA_T * coefficients.ref_temp / mean_abs)
-    return np.asarray(free_area, dtype=float) * np.maximum(coefficients.wind[hour], stack)
+    unit = FlowCoefficients(wind=coefficients.wind[hour], stack=coefficients.stack, ref_temp=coefficients.ref_temp)
+    return _unit_flow(unit, free_area, temp_in, temp_air)
 
 
 def window_opening_fraction(temp_in, temp_air, allowed, *, low_setpoint, control_band=2.0):
@@ -152,6 +149,96 @@ def window_opening_fraction(temp_in, temp_air, allowed, *, low_setpoint, control
     fraction = np.clip((temp_in - np.asarray(low_setpoint, dtype=float)) / control_band, 0.0, 1.0)
     cools = np.asarray(temp_air, dtype=float) < temp_in
     return np.where(np.asarray(allowed, dtype=bool) & cools, fraction, 0.0)
+
+
+@dataclass(frozen=True)
+class WindowVentilation:
+    """Ventilation heat transfer of zones with controlled windows, as a function of the indoor air temperature.
+
+    In an hour where the windows may be used (``open_ok``), the outdoor-air flow is
+
+        q = q_base + max(q_floor, f_day·Q_full(A_free) + f_night·Q_full(A_secure))
+
+    with f from :func:`window_opening_fraction` (day windows below ``low_day``, secure night
+    openings below ``low_night``) and Q_full from :func:`full_opening_flow`; in other hours it
+    is ``sealed``. H_ve = ρ_a·c_a·q (ISO 13790:2008 §9.3.1, 1200 J m⁻³ K⁻¹).
+
+    An instance is the ``h_ve`` callable of :func:`calcs.thermal.simulate` (``law(hour, temp_in)``);
+    the compiled loop of :mod:`calcs.kernels` evaluates the same law from
+    :meth:`kernel_arguments`. Arrays: (T,) ``temp_out``; (T, n) or broadcastable ``day``,
+    ``night``, ``floor``, ``open_ok``, ``sealed``; (n,) areas, ``base``, set-points.
+    """
+
+    coefficients: FlowCoefficients
+    temp_out: np.ndarray
+    free_area: np.ndarray
+    secure_area: np.ndarray
+    day: np.ndarray
+    night: np.ndarray
+    low_day: np.ndarray
+    low_night: np.ndarray
+    band: float
+    base: np.ndarray
+    floor: np.ndarray
+    open_ok: np.ndarray
+    sealed: np.ndarray
+
+    def window_flow(self, hour, temp_in) -> np.ndarray:
+        """Flow through the opened windows and vents [m³ s⁻¹] in hour(s) ``hour`` (int or index array)."""
+        t_out = self.temp_out[hour]
+        if np.ndim(t_out):
+            t_out = t_out[:, None]
+        c = self.coefficients
+        f_day = window_opening_fraction(temp_in, t_out, self.day[hour], low_setpoint=self.low_day,
+                                        control_band=self.band)
+        f_night = window_opening_fraction(temp_in, t_out, self.night[hour], low_setpoint=self.low_night,
+                                          control_band=self.band)
+        unit = FlowCoefficients(wind=c.wind[hour], stack=c.stack, ref_temp=c.ref_temp)
+        return (f_day * _unit_flow(unit, self.free_area, temp_in, t_out)
+                + f_night * _unit_flow(unit, self.secure_area, temp_in, t_out))
+
+    def flow(self, hour, temp_in) -> np.ndarray:
+        """Total outdoor-air flow [m³ s⁻¹] at indoor air temperature ``temp_in``."""
+        windows = self.window_flow(hour, temp_in)
+        return np.where(self.open_ok[hour], self.base + np.maximum(self.floor[hour], windows), self.sealed[hour])
+
+    def __call__(self, hour: int, temp_in: np.ndarray) -> np.ndarray:
+        from . import thermal
+
+        return thermal.ventilation_heat_transfer(self.flow(hour, temp_in))
+
+    def take_hours(self, idx) -> "WindowVentilation":
+        """The same law for the hours ``idx`` (warm-up days)."""
+        c = self.coefficients
+        return WindowVentilation(
+            FlowCoefficients(wind=c.wind[idx], stack=c.stack, ref_temp=c.ref_temp), self.temp_out[idx],
+            self.free_area, self.secure_area, self.day[idx], self.night[idx], self.low_day, self.low_night,
+            self.band, self.base, self.floor[idx], self.open_ok[idx], self.sealed[idx])
+
+    def kernel_arguments(self, shape) -> tuple:
+        """Arguments of :func:`calcs.kernels.march_windows` for a (T, n) run."""
+        n = shape[1]
+        c = self.coefficients
+
+        def zone(x):
+            return np.broadcast_to(np.asarray(x, dtype=float), (n,))
+
+        def rows(x, dtype=float):
+            return np.broadcast_to(np.asarray(x, dtype=dtype), shape)
+
+        return (np.asarray(self.temp_out, dtype=float), rows(c.wind), zone(c.stack), float(c.ref_temp),
+                zone(self.free_area), zone(self.secure_area), rows(self.day, bool), rows(self.night, bool),
+                zone(self.low_day), zone(self.low_night), float(self.band), zone(self.base), rows(self.floor),
+                rows(self.open_ok, bool), rows(self.sealed))
+
+
+def _unit_flow(coefficients: FlowCoefficients, free_area, temp_in, temp_air) -> np.ndarray:
+    """:func:`full_opening_flow` for wind coefficients already taken at the hour(s)."""
+    temp_in = np.asarray(temp_in, dtype=float)
+    delta = np.abs(temp_in - temp_air)
+    mean_abs = (temp_in + temp_air) / 2 + KELVIN
+    stack = coefficients.stack * np.sqrt(delta / _REF_DELTA_T * coefficients.ref_temp / mean_abs)
+    return np.asarray(free_area, dtype=float) * np.maximum(coefficients.wind, stack)
 
 
 @dataclass(frozen=True)
@@ -200,20 +287,16 @@ def criterion_limits(criterion, *, temp_op, temp_air, running_mean, prevailing_m
         return Limits(temp_op, np.full(n, fixed[0]), np.full(n, fixed[1]), np.ones(n, bool), "operative")
     if criterion.startswith("ashrae55"):
         speed = fan_air_speed if (criterion.endswith("_fans") and fan_air_speed is not None) else air_speed
-        frame = comfort.adaptive_ashrae55(temp_op.ravel(), np.broadcast_to(prevailing_mean, n).ravel(),
-                                          np.broadcast_to(speed, n).ravel())
         level = "90" if criterion == "ashrae55_90" else "80"
-        return Limits(temp_op, frame[f"lower_{level}"].to_numpy().reshape(n),
-                      frame[f"upper_{level}"].to_numpy().reshape(n), frame["in_range"].to_numpy().reshape(n),
+        lower, upper, in_range = comfort.ashrae55_limits(temp_op, prevailing_mean, speed, level)
+        return Limits(temp_op, np.broadcast_to(lower, n), np.broadcast_to(upper, n), np.broadcast_to(in_range, n),
                       "operative")
     if criterion.startswith("en16798_cat"):
-        cat = criterion[-1]
-        frame = comfort.adaptive_en16798(temp_op.ravel(), np.broadcast_to(running_mean, n).ravel(),
-                                         np.broadcast_to(air_speed, n).ravel())
-        lower_valid = frame["in_range_lower"].to_numpy()
-        lower = np.where(lower_valid, frame[f"lower_cat{cat}"].to_numpy(), fixed[0])
-        return Limits(temp_op, lower.reshape(n), frame[f"upper_cat{cat}"].to_numpy().reshape(n),
-                      frame["in_range_upper"].to_numpy().reshape(n), "operative")
+        lower, upper, lower_valid, upper_valid = comfort.en16798_limits(temp_op, running_mean, air_speed,
+                                                                        criterion[-1])
+        lower = np.where(lower_valid, lower, fixed[0])
+        return Limits(temp_op, np.broadcast_to(lower, n), np.broadcast_to(upper, n), np.broadcast_to(upper_valid, n),
+                      "operative")
     msg = f"criterion must be one of {', '.join(comfort.CRITERIA)}, got {criterion!r}"
     raise ProjectError(msg)
 
@@ -258,15 +341,16 @@ def changeover_modes(limits: Limits, occupied, days, *, dead_band=1.0) -> np.nda
     occ = np.broadcast_to(np.asarray(occupied, dtype=bool), shape)
     inside = (value >= limits.lower) & (value <= limits.upper) & limits.in_range
     well_inside = (value >= limits.lower + dead_band) & (value <= limits.upper - dead_band) & limits.in_range
+    from . import kernels
+
     day = pd.factorize(np.asarray(days))[0]
-    modes = np.zeros(shape, dtype=bool)
-    state = np.ones(shape[1:], dtype=bool)
-    for t in range(shape[0]):
-        if t == 0 or day[t] != day[t - 1]:
-            state = np.ones(shape[1:], dtype=bool)
-        state = np.where(state, inside[t], well_inside[t])
-        modes[t] = state & occ[t]
-    return modes
+    new_day = np.ones(shape[0], dtype=bool)
+    new_day[1:] = day[1:] != day[:-1]
+    flat = (shape[0], -1)
+    modes = np.zeros((shape[0], int(np.prod(shape[1:], dtype=int))), dtype=bool)
+    kernels.changeover_march(np.asarray(inside, dtype=bool).reshape(flat), np.asarray(well_inside, dtype=bool).reshape(flat),
+                             np.asarray(occ, dtype=bool).reshape(flat), new_day, modes)
+    return modes.reshape(shape)
 
 
 @dataclass(frozen=True)
@@ -281,7 +365,7 @@ class FreeRunningYear:
 def simulate_free_running(params, *, temp_air, gains_internal, gains_solar, coefficients: FlowCoefficients,
                           free_area, secure_area, infiltration_flow, background_flow, allowed_day,
                           allowed_night, low_setpoint, night_low_setpoint, control_band=2.0,
-                          temp_m_initial=None, tolerance=0.01) -> FreeRunningYear:
+                          temp_m_initial=None, tolerance=0.01, engine="compiled") -> FreeRunningYear:
     """Hourly free-running temperatures with windows controlled as in :func:`window_opening_fraction`.
 
     Parameters
@@ -310,6 +394,8 @@ def simulate_free_running(params, *, temp_air, gains_internal, gains_solar, coef
         Starting mass temperature; default: the thermal model's warm-up [°C].
     tolerance : float
         Fixed-point tolerance on the indoor air temperature in each hour [K].
+    engine : {"compiled", "numpy"}
+        Loop of :func:`calcs.thermal.simulate` (same numbers within ``tolerance``).
 
     Returns
     -------
@@ -333,23 +419,18 @@ def simulate_free_running(params, *, temp_air, gains_internal, gains_solar, coef
     day = np.asarray(allowed_day, dtype=bool)
     night = np.asarray(allowed_night, dtype=bool)
 
-    def window_flow(hour: int, temp_in: np.ndarray) -> np.ndarray:
-        t_out = temp_air[hour]
-        f_day = window_opening_fraction(temp_in, t_out, day[hour], low_setpoint=low_setpoint,
-                                        control_band=control_band)
-        f_night = window_opening_fraction(temp_in, t_out, night[hour], low_setpoint=night_low_setpoint,
-                                          control_band=control_band)
-        return (f_day * full_opening_flow(coefficients, hour, free_area, temp_in, t_out)
-                + f_night * full_opening_flow(coefficients, hour, secure_area, temp_in, t_out))
-
-    def h_ve(hour: int, temp_in: np.ndarray) -> np.ndarray:
-        flow = base + np.maximum(background[hour], window_flow(hour, temp_in))
-        return thermal.ventilation_heat_transfer(flow)
-
-    result = thermal.simulate(params, temp_air, gains_internal, gains_solar, h_ve, temp_m_initial=temp_m_initial,
-                              tolerance=tolerance)
+    t_len, n = np.shape(gains_internal)[0], params.n_zones
+    law = WindowVentilation(coefficients, temp_air, free_area, secure_area, day, night,
+                            np.broadcast_to(np.asarray(low_setpoint, dtype=float), (n,)),
+                            np.broadcast_to(np.asarray(night_low_setpoint, dtype=float), (n,)),
+                            float(control_band), base, background, np.broadcast_to(True, (t_len, n)),
+                            np.broadcast_to(0.0, (t_len, n)))
+    result = thermal.simulate(params, temp_air, gains_internal, gains_solar, law, temp_m_initial=temp_m_initial,
+                              tolerance=tolerance, engine=engine)
     flow = np.asarray(result.h_ve) / thermal.AIR_HEAT_CAPACITY
-    windows = np.stack([window_flow(h, result.temp_air_in[h]) for h in range(temp_air.size)])
+    windows = result.window_flow
+    if windows is None:
+        windows = law.window_flow(np.arange(temp_air.size), result.temp_air_in)
     return FreeRunningYear(result=result, flow=flow, window_flow=windows)
 
 
@@ -369,7 +450,8 @@ def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, c
                              free_area, secure_area, infiltration_flow, fresh_air_flow, occupied, nv_mode,
                              allowed_day, allowed_night, heating_setpoint, cooling_setpoint, heat_recovery=0.0,
                              low_setpoint=21.0, night_low_setpoint=19.0, control_band=2.0,
-                             max_heating=np.inf, max_cooling=np.inf, tolerance=0.01) -> OperatingYears:
+                             max_heating=np.inf, max_cooling=np.inf, tolerance=0.01,
+                             engine="compiled") -> OperatingYears:
     """The two years the energy comparison needs, with the same weather, gains and model.
 
     Parameters
@@ -394,6 +476,8 @@ def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, c
         Sensible efficiency of heat recovery on the mechanical outdoor air [-].
     max_heating, max_cooling : float or array_like (n,)
         Plant capacity limits [W].
+    engine : {"compiled", "numpy"}
+        Loop of :func:`calcs.thermal.simulate` (same numbers within ``tolerance``).
 
     Returns
     -------
@@ -423,23 +507,20 @@ def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, c
     baseline = thermal.simulate(params, temp_air, gains_internal, gains_solar,
                                 thermal.ventilation_heat_transfer(sealed_flow), heating_setpoint=heating_setpoint,
                                 cooling_setpoint=cooling_setpoint, occupied=occ, max_heating=max_heating,
-                                max_cooling=max_cooling)
+                                max_cooling=max_cooling, engine=engine)
     day = np.asarray(allowed_day, dtype=bool) & nv
     night = np.asarray(allowed_night, dtype=bool)
 
-    def h_ve(hour: int, temp_in: np.ndarray) -> np.ndarray:
-        t_out = temp_air[hour]
-        f_day = window_opening_fraction(temp_in, t_out, day[hour], low_setpoint=low_setpoint, control_band=control_band)
-        f_night = window_opening_fraction(temp_in, t_out, night[hour], low_setpoint=night_low_setpoint,
-                                          control_band=control_band)
-        windows = (f_day * full_opening_flow(coefficients, hour, free_area, temp_in, t_out)
-                   + f_night * full_opening_flow(coefficients, hour, secure_area, temp_in, t_out))
-        flow = np.where(nv[hour], base + np.maximum(np.where(occ[hour], fresh[hour], 0.0), windows), sealed_flow[hour])
-        return thermal.ventilation_heat_transfer(flow)
+    n = params.n_zones
+    h_ve = WindowVentilation(coefficients, temp_air, np.asarray(free_area, dtype=float),
+                             np.asarray(secure_area, dtype=float), day, night,
+                             np.broadcast_to(np.asarray(low_setpoint, dtype=float), (n,)),
+                             np.broadcast_to(np.asarray(night_low_setpoint, dtype=float), (n,)),
+                             float(control_band), base, np.where(occ, fresh, 0.0), nv, sealed_flow)
 
     cooling = np.where(nv, NO_COOLING, cooling_setpoint)
     mixed = thermal.simulate(params, temp_air, gains_internal, gains_solar, h_ve, heating_setpoint=heating_setpoint,
                              cooling_setpoint=cooling, occupied=occ, max_heating=max_heating,
-                             max_cooling=max_cooling, tolerance=tolerance)
+                             max_cooling=max_cooling, tolerance=tolerance, engine=engine)
     mechanical = np.where(occ & ~nv, fresh, 0.0)
     return OperatingYears(baseline=baseline, mixed=mixed, mechanical_flow=mechanical)

@@ -16,6 +16,18 @@ TEMPLATES_ENV = "FREERUN_TEMPLATES"
 
 STAGES: tuple[str, ...] = ("climate", "loads", "openings", "comfort", "energy")
 
+#: The earlier stages whose outputs each stage reads (the dependency graph of a build). A stage
+#: may read only these (:meth:`calcs.stage.Stage.upstream` refuses others); its cache key holds
+#: their outputs' digests; stages whose upstream stages are done run at the same time
+#: (``comfort`` and ``energy`` both need only climate, loads and openings).
+STAGE_UPSTREAM: dict[str, tuple[str, ...]] = {
+    "climate": (),
+    "loads": ("climate",),
+    "openings": ("climate", "loads"),
+    "comfort": ("climate", "loads", "openings"),
+    "energy": ("climate", "loads", "openings"),
+}
+
 STAGE_TITLES: dict[str, str] = {
     "climate": "Climate",
     "loads": "Heat gains and loads",

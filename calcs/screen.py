@@ -5,16 +5,15 @@ Each file is read and checked by :func:`calcs.weather.read_weather` and summaris
 also after morphing to a future climate (:func:`calcs.morph.morph_weather`). A bad file gives
 an error row naming the file and the problem; it never stops the run.
 
-Files are screened in parallel: on a local process pool by default, or on a Dask distributed
-cluster when a scheduler is named (the optional ``dask`` extra; imported only then).
+Files are screened in parallel by :func:`calcs.sweep.map_chunks`: on a local process pool by
+default, or on a Dask distributed cluster when a scheduler is named (the optional ``dask``
+extra; imported only then).
 """
 
 from __future__ import annotations
 
 import os
-import re
 from collections.abc import Iterable, Sequence
-from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -22,6 +21,7 @@ from typing import Any
 import pandas as pd
 import pydantic
 
+from calcs import sweep
 from calcs.errors import FreerunError, ProjectError
 from calcs.keyfigures import climate_key_figures
 from calcs.morph import FutureClimate, morph_weather
@@ -40,7 +40,7 @@ __all__ = [
 ]
 
 #: ``scheduler`` value that starts a Dask LocalCluster on this machine.
-LOCAL_CLUSTER = "local-cluster"
+LOCAL_CLUSTER = sweep.LOCAL_CLUSTER
 
 #: Columns of a screened row, in order (unit after the last underscore; ``pct`` of occupied
 #: hours, ``night_cooling_pct`` of occupied days).
@@ -250,56 +250,15 @@ def _frame(rows: list[dict[str, Any]], options: ScreenOptions) -> pd.DataFrame:
     return frame
 
 
-def _run_local(paths: list[str], options: ScreenOptions, jobs: int | None) -> list[dict[str, Any]]:
-    workers = max(1, min(jobs or os.cpu_count() or 1, len(paths)))
-    if workers == 1:
-        return _screen_chunk(paths, options)
+def _chunks(paths: list[str], jobs: int | None) -> list[list[str]]:
     # a few chunks per worker: little start-up overhead, still balanced when files differ
+    workers = max(1, min(jobs or os.cpu_count() or 1, len(paths)))
     size = max(1, -(-len(paths) // (4 * workers)))
-    chunks = [paths[i:i + size] for i in range(0, len(paths), size)]
-    with ProcessPoolExecutor(max_workers=workers) as pool:
-        results = pool.map(_screen_chunk, chunks, [options] * len(chunks))
-        return [row for chunk in results for row in chunk]
+    return [paths[i:i + size] for i in range(0, len(paths), size)]
 
 
-_ADDRESS = re.compile(r"^[a-z]+://\S+$|^[\w.-]+:\d+$")
-
-
-def _run_dask(paths: list[str], options: ScreenOptions, scheduler: str, jobs: int | None) -> list[dict[str, Any]]:
-    try:
-        from dask.distributed import Client, LocalCluster
-    except ImportError:
-        msg = ("--scheduler needs the optional Dask extra, which is not installed: "
-               "pip install 'freerun[dask]' (or run without --scheduler for the local process pool)")
-        raise ProjectError(msg) from None
-    cluster = None
-    if scheduler == LOCAL_CLUSTER:
-        workers = max(1, min(jobs or os.cpu_count() or 1, len(paths)))
-        try:
-            cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
-                                   dashboard_address=None)
-        except Exception as exc:  # the cluster's own start-up failure, in one line
-            msg = f"--scheduler {LOCAL_CLUSTER}: could not start a Dask cluster here ({type(exc).__name__}: {exc})"
-            raise ProjectError(" ".join(msg.split())) from None
-        address: Any = cluster
-    else:
-        if not _ADDRESS.match(scheduler):
-            msg = (f"--scheduler {scheduler!r}: not a scheduler address; allowed: tcp://HOST:PORT, HOST:PORT "
-                   f"or {LOCAL_CLUSTER}")
-            raise ProjectError(msg)
-        address = scheduler
-    try:
-        try:
-            client = Client(address, timeout="10s")
-        except (OSError, TimeoutError) as exc:
-            msg = f"--scheduler {scheduler}: cannot connect to a Dask scheduler ({type(exc).__name__}: {exc})"
-            raise ProjectError(" ".join(msg.split())) from None
-        with client:
-            futures = client.map(screen_file, paths, options=options, pure=False)
-            return client.gather(futures)
-    finally:
-        if cluster is not None:
-            cluster.close()
+def _screen_chunk_of(options: ScreenOptions, paths: Sequence[str]) -> list[dict[str, Any]]:
+    return _screen_chunk(paths, options)
 
 
 def screen_files(paths: Iterable[str | os.PathLike], options: ScreenOptions = ScreenOptions(),
@@ -336,15 +295,13 @@ def screen_files(paths: Iterable[str | os.PathLike], options: ScreenOptions = Sc
     for p in paths:
         if str(p) not in names:
             names.append(str(p))
-    if jobs is not None and (isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1):
-        msg = f"--jobs {jobs!r}: must be a whole number of worker processes, 1 or more"
-        raise ProjectError(msg)
+    sweep.check_jobs(jobs)
+    sweep.check_scheduler(scheduler)
     if not names:
         return _frame([], options), []
-    if scheduler is None:
-        rows = _run_local(names, options, jobs)
-    else:
-        rows = _run_dask(names, options, scheduler, jobs)
+    results = sweep.map_chunks(_screen_chunk_of, _chunks(names, jobs), context=options, scheduler=scheduler,
+                               jobs=jobs)
+    rows = [row for chunk in results for row in chunk]
     good = [r for r in rows if "error" not in r]
     errors = [{"file": r["file"], "error": r["error"]} for r in rows if "error" in r]
     return _frame(good, options), errors

@@ -16,14 +16,14 @@ from __future__ import annotations
 
 import json
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 import pandas as pd
 
 from .errors import StageError
-from .paths import STAGES, stage_dir, stage_template
+from .paths import STAGE_UPSTREAM, STAGES, stage_dir, stage_template
 from .project import DEFAULTS_FILE, Project, defaults_used, load_project
 
 RESULTS_FILE = "results.json"
@@ -37,6 +37,7 @@ class Stage:
     project: Project
     project_file: Path
     build_dir: Path
+    _charts: Any = field(default=None, init=False, repr=False, compare=False)
 
     @property
     def project_dir(self) -> Path:
@@ -69,8 +70,10 @@ class Stage:
 
     def upstream(self, stage: str) -> Path:
         """Output folder of an earlier stage, running it first if it has no results yet."""
-        if stage not in STAGES or STAGES.index(stage) >= STAGES.index(self.name):
-            msg = f"stage '{self.name}' may only read earlier stages, not '{stage}'"
+        if stage not in STAGE_UPSTREAM.get(self.name, ()):
+            allowed = ", ".join(STAGE_UPSTREAM.get(self.name, ())) or "none"
+            msg = (f"stage '{self.name}' may only read the stages it depends on ({allowed}; "
+                   f"calcs.paths.STAGE_UPSTREAM), not '{stage}'")
             raise StageError(msg)
         folder = stage_dir(self.build_dir, stage)
         if not (folder / RESULTS_FILE).is_file():
@@ -102,6 +105,23 @@ class Stage:
         path = self.out / f"{name}.png"
         path.write_bytes(data)
         return path
+
+    def show_chart(self, chart: Any, name: str, alt_text: str) -> None:
+        """Render a chart to ``<stage>/<name>.png`` and show it, without holding up the kernel.
+
+        The rendering runs in a background thread (:class:`calcs.charts.BackgroundCharts`);
+        the template's last cell calls :meth:`finish`, which waits for it.
+        """
+        from .charts import BackgroundCharts
+
+        if self._charts is None:
+            self._charts = BackgroundCharts()
+        self._charts.show(chart, self.out / f"{name}.png", alt_text)
+
+    def finish(self) -> None:
+        """Wait for the charts still rendering (the last call of a template)."""
+        if self._charts is not None:
+            self._charts.wait()
 
 
 def open_stage(name: str, project_file: str | Path, build_dir: str | Path = "") -> Stage:

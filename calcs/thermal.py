@@ -688,6 +688,10 @@ class SimulationResult:
     unconverged_hours : ndarray of int, shape (n,)
         Hours in which the indoor-temperature-dependent H_ve did not
         converge within the tolerance (always 0 for array H_ve).
+    window_flow : ndarray, shape (T, n), or None
+        With a :class:`calcs.operation.WindowVentilation` law and the compiled
+        engine: the flow through the opened windows at the reported air
+        temperature [m³ s⁻¹]; otherwise None.
     """
 
     temp_air_in: np.ndarray
@@ -700,6 +704,7 @@ class SimulationResult:
     temp_mass_initial: np.ndarray
     temp_mass_final: np.ndarray
     unconverged_hours: np.ndarray
+    window_flow: np.ndarray | None = None
 
 
 def _compact(value, shape: tuple[int, int], name: str, *, dtype=float, finite=True, where="simulate"):
@@ -1108,6 +1113,35 @@ def _march_callable(net, fn, te, tsup, gi, gs, sp_h, sp_c, unocc, max_h, max_c, 
     return tm, unconverged
 
 
+def _march_compiled(params, law, hv, te, tsup, gi, gs, sp_h, sp_c, occ, max_h, max_c, tm0, out, tolerance,
+                    max_iterations):
+    """Run the compiled loop of :mod:`calcs.kernels`; returns (θ_m final, unconverged hours, H_ve used)."""
+    from . import kernels
+
+    shape = te.shape
+    n = shape[1]
+    zone = (params.h_tr_is, params.h_tr_w, params.h_tr_ms, params.h_tr_em, params.capacity / STEP_SECONDS,
+            params.share_mass, params.share_surface)
+    zone = tuple(np.asarray(z, dtype=float) for z in zone)
+    dummy = np.broadcast_to(0.0, shape)
+    occupied = np.broadcast_to(True, shape) if occ is None else occ
+    setpoints = (dummy if sp_h is None else sp_h, dummy if sp_c is None else sp_c,
+                 sp_h is not None, sp_c is not None, occupied, max_h, max_c)
+    outputs = tuple(out[k] for k in ("temp_air_in", "temp_surface", "temp_mass", "temp_op", "heating_need",
+                                     "cooling_need"))
+    tm0 = np.asarray(tm0, dtype=float)
+    if hv is not None:
+        tm_end = kernels.march_fixed(hv, te, tsup, gi, gs, *setpoints, *zone, tm0, *outputs)
+        return tm_end, np.zeros(n, dtype=np.int64), hv
+    hv_out = np.empty(shape)
+    out["window_flow"] = np.empty(shape)
+    unconverged = np.zeros(n, dtype=np.int64)
+    est0 = tm0.copy()  # first guess of θ_air in hour 0, as in the numpy loop
+    tm_end = kernels.march_windows(te, tsup, gi, gs, *setpoints, *zone, tm0, est0, *law.kernel_arguments(shape),
+                                   tolerance, max_iterations, *outputs, hv_out, out["window_flow"], unconverged)
+    return tm_end, unconverged, hv_out
+
+
 def simulate(
     params: ZoneParameters,
     temp_air,
@@ -1126,6 +1160,7 @@ def simulate(
     tolerance: float = 0.01,
     max_iterations: int = 20,
     chunk_hours: int = 24,
+    engine: str = "compiled",
 ) -> SimulationResult:
     """Hourly 5R1C simulation of n zones (ISO 13790:2008 Annex C).
 
@@ -1166,8 +1201,14 @@ def simulate(
     max_iterations : int, default 20
         Fixed-point iterations per hour for callable H_ve.
     chunk_hours : int, default 24
-        Hours processed per block (memory/speed only; results do not depend
-        on it).
+        Hours processed per block by the numpy engine (memory/speed only;
+        results do not depend on it).
+    engine : {"compiled", "numpy"}, default "compiled"
+        "compiled": the numba loops of :mod:`calcs.kernels` for H_ve given
+        as an array or as a :class:`calcs.operation.WindowVentilation` law;
+        "numpy": the vectorised numpy loop (the reference the compiled loops
+        are tested against; always used for a plain callable H_ve). Both give
+        the same numbers to rounding (within ``tolerance`` for callable H_ve).
 
     Returns
     -------
@@ -1263,6 +1304,9 @@ def simulate(
     if not (isinstance(max_iterations, int) and max_iterations >= 1):
         msg = f"simulate: max_iterations must be an integer ≥ 1, got {max_iterations!r}"
         raise ProjectError(msg)
+    if engine not in ("compiled", "numpy"):
+        msg = f"simulate: engine must be 'compiled' or 'numpy', got {engine!r}"
+        raise ProjectError(msg)
     if not (isinstance(chunk_hours, int) and chunk_hours >= 1):
         msg = f"simulate: chunk_hours must be an integer ≥ 1, got {chunk_hours!r}"
         raise ProjectError(msg)
@@ -1288,7 +1332,12 @@ def simulate(
             def pick(a):
                 return None if a is None else a[idx]
 
-            warm_h_ve = hv[idx] if hv is not None else (lambda t, x: h_ve(int(idx[t]), x))
+            if hv is not None:
+                warm_h_ve = hv[idx]
+            elif hasattr(h_ve, "take_hours"):
+                warm_h_ve = h_ve.take_hours(idx)
+            else:
+                warm_h_ve = lambda t, x: h_ve(int(idx[t]), x)  # noqa: E731
             warm = simulate(
                 params, te[idx], gi[idx], gs[idx], warm_h_ve,
                 temp_sup=None if temp_sup is None else tsup[idx],
@@ -1297,7 +1346,7 @@ def simulate(
                 max_heating=max_h, max_cooling=max_c,
                 occupied=pick(occ),
                 temp_m_initial=tm0, tolerance=tolerance, max_iterations=max_iterations,
-                chunk_hours=chunk_hours,
+                chunk_hours=chunk_hours, engine=engine,
             )
             tm0 = warm.temp_mass_final
     else:
@@ -1307,7 +1356,12 @@ def simulate(
     out = {k: np.empty(shape) for k in names}
     out["heating_need"][:] = 0.0
     out["cooling_need"][:] = 0.0
-    if hv is None:
+    compiled = engine == "compiled" and (hv is not None or hasattr(h_ve, "kernel_arguments"))
+    if compiled:
+        tm_end, unconverged, h_ve_used = _march_compiled(
+            params, h_ve, hv, te, tsup, gi, gs, sp_h, sp_c, occ, max_h, max_c, tm0, out, float(tolerance),
+            max_iterations)
+    elif hv is None:
         out["h_ve"] = np.empty(shape)
         tm_end, unconverged = _march_callable(
             net, h_ve, te, tsup, gi, gs, sp_h, sp_c, unocc, max_h, max_c, tm0, out, float(tolerance), max_iterations
@@ -1328,6 +1382,7 @@ def simulate(
         temp_mass_initial=np.array(tm0, dtype=float),
         temp_mass_final=tm_end,
         unconverged_hours=unconverged,
+        window_flow=out.get("window_flow"),
     )
 
 

@@ -1,0 +1,152 @@
+"""The compiled hourly loops (calcs.kernels) against the numpy loop and the literal Annex C loop.
+
+Oracles: the scalar per-hour loop :func:`calcs.thermal.simulate_loop_reference`, which follows
+ISO 13790:2008 Annex C C.1–C.13 and §C.4.2 literally (three solves per controlled hour), and the
+vectorised numpy engine of :func:`calcs.thermal.simulate`, itself tested against that loop in
+test_thermal.py. The inputs are constructed (random but seeded), not demo data.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+
+from calcs import operation, thermal
+
+T = 24 * 21
+
+
+def _batch(n=12, seed=3):
+    rng = np.random.default_rng(seed)
+    area = rng.uniform(50, 400, n)
+    params = thermal.zone_parameters(area, area * rng.uniform(0.2, 0.6, n), area * rng.uniform(0.1, 0.5, n),
+                                     [("light", "medium", "heavy", "very_heavy")[i % 4] for i in range(n)])
+    hours = np.arange(T)
+    temp_air = 14.0 + 9.0 * np.sin(2 * np.pi * (hours % 24 - 9) / 24) + 3 * np.sin(2 * np.pi * hours / T)
+    occupied = ((hours % 24) >= 8) & ((hours % 24) < 18) & ((hours // 24) % 7 < 5)
+    gi = np.where(occupied[:, None], 30.0, 3.0) * area * rng.uniform(0.6, 1.4, (T, n))
+    gs = np.clip(np.sin(2 * np.pi * (hours % 24 - 6) / 24), 0, None)[:, None] * area * rng.uniform(5, 25, n)
+    return params, temp_air, occupied, gi, gs, area, rng
+
+
+@pytest.mark.parametrize("control", ["free", "heating", "both", "limited"])
+def test_compiled_fixed_loop_equals_numpy_loop(control):
+    params, temp_air, occupied, gi, gs, area, rng = _batch()
+    n = area.size
+    h_ve = 1200 * area * 3 * rng.uniform(0.1, 2.0, (T, n)) / 3600
+    kw = {}
+    if control in ("heating", "both", "limited"):
+        kw["heating_setpoint"] = 20.0
+    if control in ("both", "limited"):
+        kw["cooling_setpoint"] = np.full((1, n), 25.0)
+        kw["occupied"] = occupied
+    if control == "limited":
+        kw["max_heating"] = 15.0 * area
+        kw["max_cooling"] = 20.0 * area
+    runs = [thermal.simulate(params, temp_air, gi, gs, h_ve, engine=e, **kw) for e in ("compiled", "numpy")]
+    for name in ("temp_air_in", "temp_surface", "temp_mass", "temp_op", "heating_need", "cooling_need"):
+        assert_allclose(getattr(runs[0], name), getattr(runs[1], name), rtol=1e-10, atol=1e-8, err_msg=name)
+    assert_allclose(runs[0].temp_mass_final, runs[1].temp_mass_final, rtol=1e-10)
+    if control == "limited":
+        assert (runs[0].heating_need <= 15.0 * area + 1e-9).all() and runs[0].cooling_need.max() > 0
+
+
+def test_compiled_fixed_loop_equals_the_literal_annex_c_loop():
+    """Zone by zone against the scalar ISO 13790 Annex C loop (three solves of §C.4.2 per hour)."""
+    params, temp_air, occupied, gi, gs, area, rng = _batch(n=4, seed=8)
+    h_ve = np.full((T, 4), 150.0)
+    run = thermal.simulate(params, temp_air, gi, gs, h_ve, heating_setpoint=21.0, cooling_setpoint=24.0,
+                           occupied=occupied, max_cooling=25.0 * area, temp_m_initial=18.0)
+    for z in range(4):
+        ref = thermal.simulate_loop_reference(params, temp_air, gi[:, z], gs[:, z], 150.0, temp_m_initial=18.0,
+                                              zone=z, heating_setpoint=21.0, cooling_setpoint=24.0,
+                                              occupied=occupied, max_cooling=25.0 * area[z])
+        assert_allclose(run.temp_air_in[:, z], ref.temp_air_in[:, 0], atol=1e-9)
+        assert_allclose(run.heating_need[:, z], ref.heating_need[:, 0], atol=1e-6)
+        assert_allclose(run.cooling_need[:, z], ref.cooling_need[:, 0], atol=1e-6)
+
+
+def _window_inputs(n, rng):
+    coeff = operation.opening_flow_coefficients(
+        [("single_sided", "cross", "stack")[i % 3] for i in range(n)], wind_speed_met=rng.uniform(0, 6, T),
+        wind_speed_building=rng.uniform(0, 4, (T, n)), opening_height=rng.uniform(0.6, 1.6, n),
+        stack_height=rng.uniform(3, 9, n), cp_windward=0.5, cp_leeward=-0.3, discharge_coefficient=0.61)
+    return coeff
+
+
+def test_compiled_window_loop_equals_numpy_loop_free_running():
+    params, temp_air, occupied, gi, gs, area, rng = _batch(n=9, seed=5)
+    n = area.size
+    coeff = _window_inputs(n, rng)
+    night = (~occupied[:, None]) & (((np.arange(T) % 24) >= 22) | ((np.arange(T) % 24) < 6))[:, None]
+    common = dict(temp_air=temp_air, gains_internal=gi, gains_solar=gs, coefficients=coeff,
+                  free_area=area * rng.uniform(0.01, 0.06, n), secure_area=area * 0.01,
+                  infiltration_flow=area * 3 * 0.3 / 3600,
+                  background_flow=np.where(occupied[:, None], area * 0.0012, 0.0),
+                  allowed_day=np.broadcast_to(occupied[:, None], (T, n)),
+                  allowed_night=np.broadcast_to(night, (T, n)), low_setpoint=21.0, night_low_setpoint=18.0)
+    fast = operation.simulate_free_running(params, **common, engine="compiled")
+    slow = operation.simulate_free_running(params, **common, engine="numpy")
+    # the same iteration zone by zone: equal to far better than the 0.01 K tolerance
+    assert np.abs(fast.result.temp_air_in - slow.result.temp_air_in).max() < 1e-3
+    assert np.abs(fast.window_flow - slow.window_flow).max() < 1e-3 * fast.window_flow.max()
+    assert (fast.result.unconverged_hours == slow.result.unconverged_hours).all()
+    assert fast.window_flow.max() > 0.1  # windows did open
+    # the flow used is the law at the reported temperature, to the fixed-point tolerance (within
+    # 0.01 K of it: where the stack flow is steep near ΔT = 0 a few hours differ by more than 5 %)
+    law_hve = np.stack([thermal.ventilation_heat_transfer(
+        common["infiltration_flow"] + np.maximum(common["background_flow"][h], fast.window_flow[h])) for h in range(T)])
+    rel = np.abs(fast.result.h_ve / law_hve - 1)
+    assert np.median(rel) < 1e-6 and (rel < 0.05).mean() > 0.99
+
+
+def test_compiled_window_loop_equals_numpy_loop_operating_years():
+    params, temp_air, occupied, gi, gs, area, rng = _batch(n=6, seed=11)
+    n = area.size
+    coeff = _window_inputs(n, rng)
+    occ = np.broadcast_to(occupied[:, None], (T, n))
+    nv = occ & (rng.uniform(size=(T, n)) < 0.7)
+    common = dict(temp_air=temp_air + 4, gains_internal=gi, gains_solar=gs, coefficients=coeff,
+                  free_area=area * 0.03, secure_area=area * 0.005, infiltration_flow=area * 3 * 0.3 / 3600,
+                  fresh_air_flow=np.where(occ, area * 0.0012, 0.0), occupied=occ, nv_mode=nv, allowed_day=occ,
+                  allowed_night=~occ, heating_setpoint=20.0, cooling_setpoint=25.0, heat_recovery=0.6,
+                  max_cooling=40.0 * area)
+    fast = operation.simulate_operating_years(params, **common, engine="compiled")
+    slow = operation.simulate_operating_years(params, **common, engine="numpy")
+    for year in ("baseline", "mixed"):
+        a, b = getattr(fast, year), getattr(slow, year)
+        assert np.abs(a.temp_air_in - b.temp_air_in).max() <= 0.01, year  # the fixed-point tolerance
+        assert abs(a.cooling_need.sum() - b.cooling_need.sum()) <= 1e-4 * b.cooling_need.sum(), year
+        assert abs(a.heating_need.sum() - b.heating_need.sum()) <= 1e-4 * max(b.heating_need.sum(), 1.0), year
+    assert fast.baseline.cooling_need.sum() > fast.mixed.cooling_need.sum() > 0
+
+
+def test_changeover_modes_compiled_state_machine_equals_a_plain_loop():
+    """The rule of calcs.operation.changeover_modes written out as a plain Python loop."""
+    rng = np.random.default_rng(2)
+    t_len, n = 24 * 5, 7
+    value = rng.uniform(18, 29, (t_len, n))
+    lower, upper = np.full((t_len, n), 20.0), np.full((t_len, n), 26.0)
+    valid = rng.uniform(size=(t_len, n)) < 0.9
+    occ = ((np.arange(t_len) % 24) >= 8)[:, None] & np.ones(n, bool)
+    days = np.arange(t_len) // 24
+    got = operation.changeover_modes(operation.Limits(value, lower, upper, valid, "operative"), occ, days,
+                                     dead_band=1.0)
+    want = np.zeros((t_len, n), bool)
+    for j in range(n):
+        state = True
+        for t in range(t_len):
+            if t == 0 or days[t] != days[t - 1]:
+                state = True
+            inside = lower[t, j] <= value[t, j] <= upper[t, j] and valid[t, j]
+            well = lower[t, j] + 1 <= value[t, j] <= upper[t, j] - 1 and valid[t, j]
+            state = inside if state else well
+            want[t, j] = state and occ[t, j]
+    assert (got == want).all()
+
+
+def test_unknown_engine_is_refused():
+    params, temp_air, occupied, gi, gs, area, rng = _batch(n=2)
+    with pytest.raises(thermal.ProjectError, match="engine must be"):
+        thermal.simulate(params, temp_air, gi, gs, 100.0, engine="fortran")

@@ -1,0 +1,123 @@
+"""Sweeps on a local process pool and on a Dask cluster give the same numbers as one process.
+
+The oracle for the batch figures is the same calculation run in one process, column by column
+independent (calcs.batch.run_variants on the whole list of variants); the local pool and a Dask
+LocalCluster on this machine must reproduce it exactly, whatever the chunking.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+
+import pytest
+from pandas.testing import assert_frame_equal
+
+from calcs import batch, sweep
+from calcs.build import build
+from calcs.errors import ProjectError
+from calcs.project import load_project
+from calcs.stage import read_table, run_template
+from conftest import DEMO
+
+pytestmark = pytest.mark.slow
+
+
+def _square_sum(context, chunk):
+    return [context * x * x for x in chunk]
+
+
+def test_map_chunks_keeps_order_and_context_on_every_runner():
+    chunks = [[1, 2], [3], [4, 5, 6], [7]]
+    want = [[3 * x * x for x in c] for c in chunks]
+    assert sweep.map_chunks(_square_sum, chunks, context=3, jobs=1) == want
+    assert sweep.map_chunks(_square_sum, chunks, context=3, jobs=2) == want
+    pytest.importorskip("dask.distributed")
+    assert sweep.map_chunks(_square_sum, chunks, context=3, scheduler=sweep.LOCAL_CLUSTER, jobs=2) == want
+
+
+@pytest.mark.parametrize("scheduler", ["nowhere", "tcp//x", "http:/bad"])
+def test_bad_scheduler_is_one_clear_error(scheduler):
+    with pytest.raises(ProjectError, match="not a scheduler address; allowed"):
+        sweep.map_chunks(_square_sum, [[1]], scheduler=scheduler)
+
+
+def test_unreachable_scheduler_is_one_clear_error():
+    pytest.importorskip("dask.distributed")
+    with pytest.raises(ProjectError, match="cannot connect to a Dask scheduler"):
+        sweep.map_chunks(_square_sum, [[1]], scheduler="tcp://127.0.0.1:9")
+
+
+def test_environment_passes_scheduler_and_jobs(monkeypatch):
+    monkeypatch.setenv(sweep.SCHEDULER_ENV, "")
+    monkeypatch.setenv(sweep.JOBS_ENV, "")
+    assert sweep.from_environment() == (None, None)
+    monkeypatch.setenv(sweep.SCHEDULER_ENV, "local-cluster")
+    monkeypatch.setenv(sweep.JOBS_ENV, "3")
+    assert sweep.from_environment() == ("local-cluster", 3)
+    monkeypatch.setenv(sweep.JOBS_ENV, "many")
+    with pytest.raises(ProjectError, match="FREERUN_JOBS"):
+        sweep.from_environment()
+
+
+@pytest.fixture(scope="module")
+def demo_build(tmp_path_factory):
+    return build(DEMO, tmp_path_factory.mktemp("sweep") / "P01", pdf=False).folder
+
+
+def _inputs(folder):
+    project = load_project(folder / "inputs" / "project.resolved.json")
+    return batch.StageInputs(
+        project, read_table(folder / "climate" / "hourly.csv"), read_table(folder / "loads" / "hourly_gains.csv"),
+        json.loads((folder / "loads" / "results.json").read_text())["loads"],
+        read_table(folder / "openings" / "zones.csv", index_col="zone"))
+
+
+VARIANTS = [{}, {"gains_scale": 1.2}, {"area_scale": 0.7, "price_scale": 1.1}, {"mass_class": "heavy"},
+            {"fans": True}, {"seer_scale": 0.8}, {"end_shift": 1}, {"solar_scale": 1.3, "criterion": "ashrae55_80"}]
+
+
+def test_sweep_equals_one_batch_in_one_process_for_any_chunking(demo_build):
+    inputs = _inputs(demo_build)
+    b, modes, _, acc = batch.run_variants(inputs, VARIANTS)
+    whole = batch.variant_totals(b, modes, acc)
+    whole.index.name = "variant"
+    one_per_chunk = batch.sweep_totals(inputs, VARIANTS, jobs=1, chunk_columns=1)
+    assert_frame_equal(one_per_chunk, whole, rtol=1e-12, atol=1e-9)
+    assert (whole["baseline_kWh"] > whole["mixed_kWh"]).all()
+    # a cheaper tariff changes the cost, not the energy
+    assert whole.loc[2, "baseline_cost"] != whole.loc[0, "baseline_cost"]
+
+
+def test_process_pool_and_dask_give_the_same_numbers_as_one_process(demo_build):
+    inputs = _inputs(demo_build)
+    local = batch.sweep_totals(inputs, VARIANTS, jobs=1, chunk_columns=6)
+    pool = batch.sweep_totals(inputs, VARIANTS, jobs=2, chunk_columns=6)
+    assert_frame_equal(pool, local, check_exact=True)
+    pytest.importorskip("dask.distributed")
+    dask = batch.sweep_totals(inputs, VARIANTS, scheduler=sweep.LOCAL_CLUSTER, jobs=2, chunk_columns=6)
+    assert_frame_equal(dask, local, check_exact=True)
+
+
+def test_energy_stage_on_a_dask_cluster_writes_the_same_results(demo_build, tmp_path, monkeypatch):
+    """The whole energy template, its batches on a Dask LocalCluster, against the default build."""
+    pytest.importorskip("dask.distributed")
+    copy = tmp_path / "P01"
+    shutil.copytree(demo_build, copy)
+    shutil.rmtree(copy / "energy")
+    monkeypatch.setenv(sweep.SCHEDULER_ENV, sweep.LOCAL_CLUSTER)
+    monkeypatch.setenv(sweep.JOBS_ENV, "2")
+    run_template("energy", copy / "inputs" / "project.resolved.json", copy)
+    for name in ("results.json", "monte_carlo.csv", "sensitivity.csv", "zones.csv", "monthly.csv"):
+        assert (copy / "energy" / name).read_bytes() == (demo_build / "energy" / name).read_bytes(), name
+    assert json.loads((demo_build / "manifest.json").read_text())["batches_ran_on"].startswith("local process pool")
+    assert os.environ[sweep.SCHEDULER_ENV] == sweep.LOCAL_CLUSTER  # the test's own setting, restored after
+
+
+def test_build_refuses_a_bad_scheduler_before_writing_anything(tmp_path):
+    with pytest.raises(ProjectError, match="not a scheduler address"):
+        build(DEMO, tmp_path / "P01", scheduler="not an address")
+    assert not (tmp_path / "P01").exists()
+    with pytest.raises(ProjectError, match="--jobs"):
+        build(DEMO, tmp_path / "P01", jobs=0)
