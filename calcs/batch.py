@@ -269,27 +269,20 @@ class Accounts:
     peak_cooling_w: dict[str, np.ndarray]
 
 
-def energy_accounts(batch: Batch, project: Any, index: pd.DatetimeIndex, temp_air: np.ndarray,
-                    years: operation.OperatingYears, nv_mode: np.ndarray, *, seer_scale=1.0,
-                    price_scale=1.0) -> Accounts:
-    """Energy by end use, cost and carbon of the baseline and mixed-mode years (see :mod:`calcs.energy`).
+def _delivered(batch: Batch, project: Any, temp_air: np.ndarray, years: operation.OperatingYears,
+               nv_mode: np.ndarray, seer_scale=1.0) -> dict[str, dict[str, Any]]:
+    """Hourly delivered electricity and gas [W] of both schemes, with annual kWh by end use.
 
-    ``seer_scale`` and ``price_scale`` (scalars or (n,) arrays) scale the cooling efficiency and
-    every energy price, for the sensitivity and uncertainty studies, on top of the variants' own
-    ``seer_scale`` and ``price_scale``.
+    Returns ``{scheme: {"electric": (T, n), "gas": (T, n), "kwh": {end_use: (n,)}}}``; nothing here
+    depends on a price or a carbon factor (see :func:`calcs.energy` for each conversion).
     """
     from . import energy
 
     en, op = project.energy, project.operation
     seer = en.cooling_seer * np.asarray(seer_scale, dtype=float) * batch.seer_scale
-    price_el = energy.hourly_price(index, en.electricity_price,
-                                   [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
-    scale = np.asarray(price_scale, dtype=float) * batch.price_scale
-    month = index.month.to_numpy()
     occ = batch.occupied
     nv = nv_mode & occ
-    kwh: dict[str, dict[str, np.ndarray]] = {}
-    monthly, cost, carbon, demand, peak = {}, {}, {}, {}, {}
+    out: dict[str, dict[str, Any]] = {}
     for scheme, result, mech in (("baseline", years.baseline, np.where(occ, batch.fresh, 0.0)),
                                  ("mixed", years.mixed, years.mechanical_flow)):
         cooling_el = energy.cooling_electricity(result.cooling_need, seer, temp_air,
@@ -304,11 +297,37 @@ def energy_accounts(batch: Batch, project: Any, index: pd.DatetimeIndex, temp_ai
             standby = np.zeros(occ.shape)
         electric = cooling_el + fans + ceiling + standby + (heat if en.heating_fuel == "electricity" else 0.0)
         gas = heat if en.heating_fuel == "gas" else np.zeros(occ.shape)
-        kwh[scheme] = {"cooling": cooling_el.sum(axis=0) / 1000, "heating": heat.sum(axis=0) / 1000,
-                       "fans": fans.sum(axis=0) / 1000, "ceiling_fans": ceiling.sum(axis=0) / 1000,
-                       "standby": np.asarray(standby).sum(axis=0) / 1000}
-        delivered = electric + gas
-        monthly[scheme] = np.stack([delivered[month == m].sum(axis=0) / 1000 for m in range(1, 13)])
+        kwh = {"cooling": cooling_el.sum(axis=0) / 1000, "heating": heat.sum(axis=0) / 1000,
+               "fans": fans.sum(axis=0) / 1000, "ceiling_fans": ceiling.sum(axis=0) / 1000,
+               "standby": np.asarray(standby).sum(axis=0) / 1000}
+        out[scheme] = {"electric": electric, "gas": gas, "kwh": kwh}
+    return out
+
+
+def energy_accounts(batch: Batch, project: Any, index: pd.DatetimeIndex, temp_air: np.ndarray,
+                    years: operation.OperatingYears, nv_mode: np.ndarray, *, seer_scale=1.0,
+                    price_scale=1.0) -> Accounts:
+    """Energy by end use, cost and carbon of the baseline and mixed-mode years (see :mod:`calcs.energy`).
+
+    ``seer_scale`` and ``price_scale`` (scalars or (n,) arrays) scale the cooling efficiency and
+    every energy price, for the sensitivity and uncertainty studies, on top of the variants' own
+    ``seer_scale`` and ``price_scale``.
+    """
+    from . import energy
+
+    en = project.energy
+    price_el = energy.hourly_price(index, en.electricity_price,
+                                   [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
+    scale = np.asarray(price_scale, dtype=float) * batch.price_scale
+    month = index.month.to_numpy()
+    kwh: dict[str, dict[str, np.ndarray]] = {}
+    monthly, cost, carbon, demand, peak = {}, {}, {}, {}, {}
+    delivered = _delivered(batch, project, temp_air, years, nv_mode, seer_scale)
+    for scheme, result in (("baseline", years.baseline), ("mixed", years.mixed)):
+        electric, gas = delivered[scheme]["electric"], delivered[scheme]["gas"]
+        kwh[scheme] = delivered[scheme]["kwh"]
+        total = electric + gas
+        monthly[scheme] = np.stack([total[month == m].sum(axis=0) / 1000 for m in range(1, 13)])
         cost[scheme] = ((price_el[:, None] * electric).sum(axis=0) / 1000
                         + en.gas_price * gas.sum(axis=0) / 1000) * scale
         carbon[scheme] = (en.electricity_carbon * electric.sum(axis=0) + en.gas_carbon * gas.sum(axis=0)) / 1000
@@ -375,24 +394,98 @@ def variant_totals(b: Batch, modes: np.ndarray, acc: Accounts) -> pd.DataFrame:
     floor-area weighted over the zones.
     """
     rows = []
+    nv = variant_totals_nv(b, modes)
     for v in range(int(b.variant.max()) + 1):
         cols = np.flatnonzero(b.variant == v)
         row = {}
-        for scheme in ("baseline", "mixed"):
+        for scheme in _SCHEMES:
             row[scheme + "_kWh"] = float(sum(acc.kwh[scheme][u][cols].sum() for u in END_USES))
             row[scheme + "_cost"] = float(acc.cost[scheme][cols].sum() + acc.demand_cost[scheme][v])
             row[scheme + "_co2"] = float(acc.carbon[scheme][cols].sum())
-        occ = b.occupied[:, cols]
-        weight = b.areas[cols] / b.areas[cols].sum()
-        row["nv_mode_pct"] = float(sum(w * 100 * modes[occ[:, i], c].mean()
-                                       for i, (c, w) in enumerate(zip(cols, weight))))
+        row["nv_mode_pct"] = float(nv[v])
         rows.append(row)
     return pd.DataFrame(rows, columns=list(TOTAL_COLUMNS))
 
 
-def _totals_of_chunk(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
-    b, modes, _, acc = run_variants(inputs, variants)
-    return variant_totals(b, modes, acc)
+#: The project's energy keys that only value the energy (prices, carbon factors, capital, life):
+#: changing them re-prices a sweep's stored price-independent table instead of re-simulating it.
+PRICING_KEYS = frozenset({
+    "currency", "electricity_price", "electricity_periods", "demand_charge", "gas_price", "electricity_carbon",
+    "gas_carbon", "carbon_source", "openable_area_cost", "actuator_cost", "controls_cost", "ceiling_fan_cost",
+    "plant_cost", "plant_space_share", "life", "discount_rate",
+})
+_SCHEMES = ("baseline", "mixed")
+
+
+def _physical_of_chunk(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
+    """Price-independent annual figures of each variant (see :func:`price_totals`)."""
+    ch, project = inputs.climate_hourly, inputs.project
+    temp_air = ch["temp_air"].to_numpy()
+    b = build_batch(project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, variants)
+    free = free_running(b, project, temp_air)
+    modes = changeover(b, project, ch, free.result.temp_op)
+    years = operating_years(b, project, temp_air, modes)
+    delivered = _delivered(b, project, temp_air, years, modes)
+    n_var = int(b.variant.max()) + 1
+    assign = np.zeros((b.variant.size, n_var))
+    assign[np.arange(b.variant.size), b.variant] = 1.0  # column → variant
+    hour = ch.index.hour.to_numpy()
+    month = ch.index.month.to_numpy()
+    by_hour = (hour[:, None] == np.arange(24)[None, :]).astype(float)  # (T, 24)
+    table: dict[str, Any] = {}
+    for scheme in _SCHEMES:
+        d = delivered[scheme]
+        electric = d["electric"] @ assign  # (T, variants) [W]
+        table[f"{scheme}_kWh"] = sum(d["kwh"][u] for u in END_USES) @ assign
+        for h, column in enumerate((by_hour.T @ electric) / 1000):
+            table[f"{scheme}_electric_kWh_h{h:02d}"] = column
+        table[f"{scheme}_gas_kWh"] = d["gas"].sum(axis=0) @ assign / 1000
+        for m in range(1, 13):
+            table[f"{scheme}_peak_kW_m{m:02d}"] = electric[month == m].max(axis=0) / 1000
+    table["nv_mode_pct"] = variant_totals_nv(b, modes)
+    table["price_scale"] = np.array([float({**VARIANT_KEYS, **dict(v)}["price_scale"]) for v in variants])
+    return pd.DataFrame(table)
+
+
+def variant_totals_nv(b: Batch, modes: np.ndarray) -> np.ndarray:
+    """Natural-ventilation hours of each variant [% of occupied hours], floor-area weighted over its zones."""
+    out = []
+    for v in range(int(b.variant.max()) + 1):
+        cols = np.flatnonzero(b.variant == v)
+        occ = b.occupied[:, cols]
+        weight = b.areas[cols] / b.areas[cols].sum()
+        out.append(float(sum(w * 100 * modes[occ[:, i], c].mean() for i, (c, w) in enumerate(zip(cols, weight)))))
+    return np.array(out)
+
+
+def price_totals(physical: pd.DataFrame, project: Any) -> pd.DataFrame:
+    """:data:`TOTAL_COLUMNS` of each variant from its price-independent figures and the project's tariff.
+
+    Cost = (Σ_h p_h·E_h + p_gas·G)·s + Σ_months P_peak·r_demand·s, with E_h the electricity
+    delivered in hour-of-day h over the year [kWh] (time-of-use periods repeat every day), G the
+    gas [kWh], P_peak each month's peak electrical demand [kW] and s the variant's price scale;
+    carbon = f_el·E + f_gas·G. The same arithmetic as :func:`energy_accounts`, regrouped.
+    """
+    from . import energy
+
+    en = project.energy
+    hours = pd.date_range("2001-01-01", periods=24, freq="h")
+    price_h = energy.hourly_price(hours, en.electricity_price,
+                                  [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
+    scale = physical["price_scale"].to_numpy()
+    out = {}
+    for scheme in _SCHEMES:
+        elec_h = physical[[f"{scheme}_electric_kWh_h{h:02d}" for h in range(24)]].to_numpy()
+        peaks = physical[[f"{scheme}_peak_kW_m{m:02d}" for m in range(1, 13)]].to_numpy()
+        gas = physical[f"{scheme}_gas_kWh"].to_numpy()
+        out[f"{scheme}_kWh"] = physical[f"{scheme}_kWh"].to_numpy()
+        out[f"{scheme}_cost"] = ((elec_h @ price_h + en.gas_price * gas) * scale
+                                 + peaks.sum(axis=1) * en.demand_charge * scale)
+        out[f"{scheme}_co2"] = en.electricity_carbon * elec_h.sum(axis=1) + en.gas_carbon * gas
+    out["nv_mode_pct"] = physical["nv_mode_pct"].to_numpy()
+    table = pd.DataFrame(out, columns=list(TOTAL_COLUMNS))
+    table.index.name = "variant"
+    return table
 
 
 #: Columns (zones × variants) per chunk of a sweep: big enough to keep the compiled loops busy,
@@ -400,21 +493,55 @@ def _totals_of_chunk(inputs: StageInputs, variants: Sequence[Mapping[str, Any]])
 CHUNK_COLUMNS = 96
 
 
+def sweep_key(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]) -> str:
+    """SHA-256 of everything a sweep's price-independent table depends on.
+
+    The project without :data:`PRICING_KEYS`, the earlier stages' tables, the variants without
+    their price scale, and the calculation code's version (:func:`calcs.cache.code_version`).
+    """
+    import hashlib
+    import json
+
+    from .cache import code_version
+
+    data = inputs.project.model_dump(mode="json")
+    data["energy"] = {k: v for k, v in data["energy"].items() if k not in PRICING_KEYS}
+    for name in ("project", "report", "signoff", "decisions"):
+        data.pop(name, None)  # titles, people and paper: no calculation reads them
+    digest = hashlib.sha256()
+    digest.update(json.dumps({"project": data, "loads": inputs.loads, "code": code_version(),
+                              "variants": [{k: v for k, v in dict(x).items() if k != "price_scale"} for x in variants]},
+                             sort_keys=True, default=str).encode())
+    for frame in (inputs.climate_hourly, inputs.gains_hourly, inputs.openings):
+        digest.update(pd.util.hash_pandas_object(frame, index=True).to_numpy().tobytes())
+        digest.update(",".join(map(str, frame.columns)).encode())
+    return digest.hexdigest()
+
+
 def sweep_totals(inputs: StageInputs, variants: Sequence[Mapping[str, Any]], *, scheduler: str | None = None,
-                 jobs: int | None = None, chunk_columns: int = CHUNK_COLUMNS) -> pd.DataFrame:
+                 jobs: int | None = None, chunk_columns: int = CHUNK_COLUMNS, store=None) -> pd.DataFrame:
     """:func:`variant_totals` of many variants, in chunks run by :func:`calcs.sweep.map_chunks`.
 
     The variants are cut into chunks of about ``chunk_columns`` columns (whole variants: a
-    variant's demand charge needs all its zones); each chunk runs every step on its own, so the
-    table is the same whichever way the chunks ran (local process pool by default, or Dask).
-    Returns one row per variant, in the order given, index ``variant``.
+    variant's demand charge needs all its zones); each chunk runs every step on its own and
+    returns its price-independent figures, which :func:`price_totals` values with the project's
+    tariff. The table is the same whichever way the chunks ran (local process pool by default,
+    or Dask). ``store`` (a :class:`calcs.sweep.SweepStore`, optional) keeps the price-independent
+    table under :func:`sweep_key`, so a change of prices or carbon factors re-prices it without
+    simulating again. Returns one row per variant, in the order given, index ``variant``.
     """
     from . import sweep
 
     variants = [dict(v) for v in variants]
-    per_chunk = max(1, chunk_columns // max(1, len(inputs.project.zones)))
-    chunks = [variants[i:i + per_chunk] for i in range(0, len(variants), per_chunk)]
-    parts = sweep.map_chunks(_totals_of_chunk, chunks, context=inputs, scheduler=scheduler, jobs=jobs)
-    table = pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(columns=list(TOTAL_COLUMNS))
-    table.index.name = "variant"
-    return table
+    key = sweep_key(inputs, variants) if store is not None else None
+    physical = store.fetch(key) if store is not None else None
+    if physical is None:
+        per_chunk = max(1, chunk_columns // max(1, len(inputs.project.zones)))
+        chunks = [variants[i:i + per_chunk] for i in range(0, len(variants), per_chunk)]
+        parts = sweep.map_chunks(_physical_of_chunk, chunks, context=inputs, scheduler=scheduler, jobs=jobs)
+        physical = pd.concat(parts, ignore_index=True)
+        if store is not None:
+            store.put(key, physical)
+    else:
+        physical = physical.assign(price_scale=[float({**VARIANT_KEYS, **v}["price_scale"]) for v in variants])
+    return price_totals(physical, inputs.project)

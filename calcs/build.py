@@ -176,7 +176,8 @@ def build(
         inputs_sha = prepare_inputs(project_file, project, work, overrides)
         resolved = work / INPUTS / RESOLVED_FILE
         seconds: dict[str, float] = {}
-        with _sweep_environment(scheduler, jobs):
+        store = "" if fresh else str(target.parent / CACHE_DIR / "sweeps")
+        with _sweep_environment(scheduler, jobs, store):
             stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
         results = merge_results(work)
         (work / RESULTS_FILE).write_text(dump_json(results), encoding="utf-8")
@@ -204,13 +205,15 @@ CACHE_DIR = ".stage-cache"
 
 
 @contextlib.contextmanager
-def _sweep_environment(scheduler: str | None, jobs: int | None):
-    """Tell the stage kernels (child processes) where to run their batches, for this build only."""
+def _sweep_environment(scheduler: str | None, jobs: int | None, store: str):
+    """Tell the stage kernels (child processes) where to run their batches and keep their
+    price-independent tables, for this build only."""
     from . import sweep
 
-    saved = {k: os.environ.get(k) for k in (sweep.SCHEDULER_ENV, sweep.JOBS_ENV)}
+    saved = {k: os.environ.get(k) for k in (sweep.SCHEDULER_ENV, sweep.JOBS_ENV, sweep.STORE_ENV)}
     os.environ[sweep.SCHEDULER_ENV] = scheduler or ""
     os.environ[sweep.JOBS_ENV] = "" if jobs is None else str(jobs)
+    os.environ[sweep.STORE_ENV] = store
     try:
         yield
     finally:

@@ -158,7 +158,9 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path) ->
         parameters={"project_file": str(project_file), "build_dir": str(build_dir)},
         kernel_name="python3",
         progress_bar=False,
-        cwd=str(build_dir),
+        # the kernel starts in the build folder; papermill's own ``cwd`` would chdir the whole
+        # process, which stages running side by side in threads must not do
+        resources={"metadata": {"path": str(Path(build_dir).resolve())}},
         # the kernel would otherwise warn on stderr about its local TCP transport
         extra_arguments=["--IPKernelApp.log_level=ERROR"],
     )

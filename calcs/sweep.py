@@ -33,14 +33,16 @@ from typing import Any
 
 from calcs.errors import ProjectError
 
-__all__ = ["JOBS_ENV", "LOCAL_CLUSTER", "SCHEDULER_ENV", "check_jobs", "check_scheduler", "describe",
-           "from_environment", "map_chunks"]
+__all__ = ["JOBS_ENV", "LOCAL_CLUSTER", "SCHEDULER_ENV", "STORE_ENV", "SweepStore", "check_jobs", "check_scheduler",
+           "describe", "from_environment", "map_chunks", "store_from_environment"]
 
 #: ``scheduler`` value that starts a Dask LocalCluster on this machine.
 LOCAL_CLUSTER = "local-cluster"
 #: Environment variables a build sets for its stage kernels.
 SCHEDULER_ENV = "FREERUN_SCHEDULER"
 JOBS_ENV = "FREERUN_JOBS"
+#: Folder of stored price-independent sweep tables (set by a build unless ``--fresh``).
+STORE_ENV = "FREERUN_SWEEP_STORE"
 
 _ADDRESS = re.compile(r"^[a-z]+://\S+$|^[\w.-]+:\d+$")
 _CONTEXT: Any = None  # the shared context inside a local worker process
@@ -178,3 +180,63 @@ def map_chunks(fn: Callable[[Any, Any], Any], chunks: Sequence[Any], *, context:
     if scheduler is None:
         return _run_local(fn, chunks, context, jobs)
     return _run_dask(fn, chunks, context, scheduler, jobs)
+
+
+class SweepStore:
+    """A folder of price-independent sweep tables, ``<root>/<key>.parquet`` with a SHA-256 beside it.
+
+    A build keeps it next to its stage cache (``<build parent>/.stage-cache/sweeps/``): when only
+    prices or carbon factors change, the energy stage re-executes but re-prices the stored table
+    instead of simulating every variant again (:func:`calcs.batch.sweep_totals`). An entry whose
+    digest does not match is deleted and recomputed; entries are written to a temporary file
+    and renamed into place.
+    """
+
+    def __init__(self, root) -> None:
+        from pathlib import Path
+
+        self.root = Path(root)
+        self.reused = 0
+
+    def _paths(self, key: str):
+        return self.root / f"{key}.parquet", self.root / f"{key}.sha256"
+
+    def fetch(self, key: str):
+        """The stored table, or None when absent or damaged (then removed)."""
+        import hashlib
+
+        import pandas as pd
+
+        table, digest = self._paths(key)
+        if not (table.is_file() and digest.is_file()):
+            return None
+        data = table.read_bytes()
+        if hashlib.sha256(data).hexdigest() != digest.read_text(encoding="utf-8").strip():
+            table.unlink(missing_ok=True)
+            digest.unlink(missing_ok=True)
+            return None
+        import io
+
+        self.reused += 1
+        return pd.read_parquet(io.BytesIO(data))
+
+    def put(self, key: str, frame) -> None:
+        """Store a table (atomically: temporary files renamed into place)."""
+        import hashlib
+        import io
+
+        self.root.mkdir(parents=True, exist_ok=True)
+        buffer = io.BytesIO()
+        frame.to_parquet(buffer, index=False)
+        data = buffer.getvalue()
+        table, digest = self._paths(key)
+        for path, content in ((table, data), (digest, hashlib.sha256(data).hexdigest().encode())):
+            tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+            tmp.write_bytes(content)
+            os.replace(tmp, path)
+
+
+def store_from_environment() -> SweepStore | None:
+    """The sweep store a build named for this kernel; None when run on its own or with ``--fresh``."""
+    folder = os.environ.get(STORE_ENV) or ""
+    return SweepStore(folder) if folder else None

@@ -7,6 +7,7 @@ LocalCluster on this machine must reproduce it exactly, whatever the chunking.
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import os
 import shutil
@@ -63,7 +64,11 @@ def test_environment_passes_scheduler_and_jobs(monkeypatch):
 
 @pytest.fixture(scope="module")
 def demo_build(tmp_path_factory):
-    return build(DEMO, tmp_path_factory.mktemp("sweep") / "P01", pdf=False).folder
+    before = os.getcwd()
+    folder = build(DEMO, tmp_path_factory.mktemp("sweep") / "P01", pdf=False).folder
+    # stages run in threads side by side: none may change the process's working folder
+    assert os.getcwd() == before
+    return folder
 
 
 def _inputs(folder):
@@ -121,3 +126,42 @@ def test_build_refuses_a_bad_scheduler_before_writing_anything(tmp_path):
     assert not (tmp_path / "P01").exists()
     with pytest.raises(ProjectError, match="--jobs"):
         build(DEMO, tmp_path / "P01", jobs=0)
+
+
+def test_store_reprices_a_tariff_change_and_recomputes_a_damaged_entry(demo_build, tmp_path):
+    inputs = _inputs(demo_build)
+    store = sweep.SweepStore(tmp_path / "sweeps")
+    first = batch.sweep_totals(inputs, VARIANTS, jobs=1, store=store)
+    assert store.reused == 0 and len(list((tmp_path / "sweeps").glob("*.parquet"))) == 1
+    # a new tariff: the same key, the stored table re-priced, equal to a run without the store
+    dear = dataclasses.replace(inputs, project=inputs.project.model_copy(
+        update={"energy": inputs.project.energy.model_copy(update={"electricity_price": 0.4, "gas_carbon": 0.25})}))
+    assert batch.sweep_key(dear, VARIANTS) == batch.sweep_key(inputs, VARIANTS)
+    repriced = batch.sweep_totals(dear, VARIANTS, jobs=1, store=store)
+    assert store.reused == 1
+    assert_frame_equal(repriced, batch.sweep_totals(dear, VARIANTS, jobs=1), check_exact=True)
+    assert (repriced["baseline_cost"] > first["baseline_cost"]).all()
+    assert_frame_equal(repriced[["baseline_kWh", "mixed_kWh", "nv_mode_pct"]],
+                       first[["baseline_kWh", "mixed_kWh", "nv_mode_pct"]], check_exact=True)
+    # a change the simulation sees gets its own key
+    efficient = dataclasses.replace(inputs, project=inputs.project.model_copy(
+        update={"energy": inputs.project.energy.model_copy(update={"cooling_seer": 5.0})}))
+    assert batch.sweep_key(efficient, VARIANTS) != batch.sweep_key(inputs, VARIANTS)
+    # a damaged entry is found by its digest, removed and recomputed
+    entry = next((tmp_path / "sweeps").glob("*.parquet"))
+    entry.write_bytes(entry.read_bytes()[:-10] + b"0123456789")
+    again = batch.sweep_totals(inputs, VARIANTS, jobs=1, store=store)
+    assert store.reused == 1  # not reused this time
+    assert_frame_equal(again, first, check_exact=True)
+
+
+def test_tariff_rebuild_reprices_and_equals_a_fresh_build(demo_build, tmp_path):
+    """A tariff-only rebuild next to the cold build reuses the stored sweep; the numbers equal a fresh build."""
+    override = ["energy.electricity_price=0.31"]
+    quick = build(DEMO, demo_build.parent / "P01-tariff", pdf=False, overrides=override)
+    assert [s for s, r in quick.manifest["stages"].items() if not r["reused"]] == ["energy"]
+    notebook = (quick.folder / "notebooks" / "energy.ipynb").read_text(encoding="utf-8")
+    assert "reused from the sweep store" in notebook
+    fresh = build(DEMO, tmp_path / "P01-tariff", pdf=False, overrides=override, fresh=True)
+    for name in ("results.json", "monte_carlo.csv", "sensitivity.csv", "zones.csv"):
+        assert (quick.folder / "energy" / name).read_bytes() == (fresh.folder / "energy" / name).read_bytes(), name

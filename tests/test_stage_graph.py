@@ -1,0 +1,53 @@
+"""The stage dependency graph and the background chart rendering (machinery, no numbers).
+
+What is checked here is internal consistency of the build machinery: a stage may read only the
+stages it declares, the graph has no cycle and follows the report order, and a chart that fails
+to render fails its stage instead of leaving a placeholder in the report.
+"""
+
+from __future__ import annotations
+
+import altair as alt
+import pandas as pd
+import pytest
+
+from calcs import charts
+from calcs.errors import StageError
+from calcs.paths import STAGE_UPSTREAM, STAGES
+from calcs.stage import open_stage
+from conftest import DEMO
+
+
+def test_graph_covers_every_stage_and_points_backwards():
+    assert set(STAGE_UPSTREAM) == set(STAGES)
+    for stage, upstream in STAGE_UPSTREAM.items():
+        assert all(STAGES.index(u) < STAGES.index(stage) for u in upstream), stage
+    # comfort and energy need the same three stages and not each other: they can run together
+    assert "comfort" not in STAGE_UPSTREAM["energy"] and "energy" not in STAGE_UPSTREAM["comfort"]
+
+
+def test_a_stage_may_not_read_a_stage_it_does_not_depend_on(tmp_path):
+    st = open_stage("energy", DEMO / "project.toml", tmp_path)
+    with pytest.raises(StageError, match="may only read the stages it depends on"):
+        st.upstream("comfort")
+    with pytest.raises(StageError, match="not 'energy'"):
+        open_stage("climate", DEMO / "project.toml", tmp_path).upstream("energy")
+
+
+def test_background_chart_is_written_and_a_failing_one_raises(tmp_path, monkeypatch):
+    chart = alt.Chart(pd.DataFrame({"x": [1, 2], "y": [3, 4]})).mark_line().encode(x="x:Q", y="y:Q")
+    renderer = charts.BackgroundCharts()
+    renderer.show(chart, tmp_path / "ok.png", "a line")
+    renderer.wait()
+    assert (tmp_path / "ok.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+    import vl_convert
+
+    def broken(*args, **kwargs):
+        raise ValueError("renderer broke")
+
+    monkeypatch.setattr(vl_convert, "vegalite_to_png", broken)
+    renderer.show(chart, tmp_path / "bad.png", "a broken line")
+    with pytest.raises(ValueError, match="renderer broke"):
+        renderer.wait()
+    assert not (tmp_path / "bad.png").exists()
