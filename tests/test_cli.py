@@ -188,6 +188,24 @@ def test_wrong_option_is_one_line_exit_2():
     assert "--frobnicate" in done.stderr
 
 
+@pytest.mark.parametrize(("option", "expected"), [
+    (["--scheduler", "not an address"], "not a scheduler address; allowed: tcp://HOST:PORT"),
+    (["--jobs", "0"], "must be a whole number of worker processes"),
+    (["--jobs", "two"], "must be a whole number of worker processes"),
+])
+def test_bad_sweep_option_is_one_line_exit_2_and_writes_nothing(option, expected, make_project, tmp_path, capsys):
+    folder = make_project()
+    out = tmp_path / "out" / "P01"
+    try:
+        code = main(["build", str(folder), "--out", str(out), "--no-pdf", *option])
+    except SystemExit as exc:  # argparse refuses an option value itself
+        code = exc.code
+    assert code == EXIT_BAD_INPUT
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and expected in err
+    assert not out.parent.exists()
+
+
 def test_schema_lists_keys(capsys):
     assert main(["schema"]) == 0
     out = capsys.readouterr().out
