@@ -341,15 +341,17 @@ def changeover_modes(limits: Limits, occupied, days, *, dead_band=1.0) -> np.nda
     occ = np.broadcast_to(np.asarray(occupied, dtype=bool), shape)
     inside = (value >= limits.lower) & (value <= limits.upper) & limits.in_range
     well_inside = (value >= limits.lower + dead_band) & (value <= limits.upper - dead_band) & limits.in_range
-    from . import kernels
+    from . import kernels  # numba: imported only by the stages that simulate
 
     day = pd.factorize(np.asarray(days))[0]
     new_day = np.ones(shape[0], dtype=bool)
     new_day[1:] = day[1:] != day[:-1]
-    flat = (shape[0], -1)
-    modes = np.zeros((shape[0], int(np.prod(shape[1:], dtype=int))), dtype=bool)
-    kernels.changeover_march(np.asarray(inside, dtype=bool).reshape(flat), np.asarray(well_inside, dtype=bool).reshape(flat),
-                             np.asarray(occ, dtype=bool).reshape(flat), new_day, modes)
+
+    def columns(a):  # (T,) or (T, n) as (T, n) for the compiled loop
+        return np.asarray(a, dtype=bool).reshape(shape[0], -1)
+
+    modes = np.zeros(columns(inside).shape, dtype=bool)
+    kernels.changeover_march(columns(inside), columns(well_inside), columns(occ), new_day, modes)
     return modes.reshape(shape)
 
 
