@@ -488,7 +488,7 @@ class Energy(_Section):
 
 
 class Uncertainty(_Section):
-    samples: int = _f(500, meaning="Monte Carlo samples (one vectorised batch through the thermal model)", ge=10, le=5000)
+    samples: int = _f(500, meaning="Monte Carlo samples (variants run through the same hourly model)", ge=10, le=5000)
     seed: int = _f(20261202, meaning="Random seed (the same seed gives the same numbers)", ge=0)
     gains_spread: float = _f(0.15, meaning="Standard deviation of internal gains, relative", unit="-", ge=0, le=1,
                              source="design assumption, no published source")
