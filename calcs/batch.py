@@ -304,6 +304,14 @@ def _delivered(batch: Batch, project: Any, temp_air: np.ndarray, years: operatio
     return out
 
 
+def _electricity_prices(index: pd.DatetimeIndex, en: Any) -> np.ndarray:
+    """The project's electricity price in every hour of ``index`` [currency kWh⁻¹]."""
+    from . import energy
+
+    return energy.hourly_price(index, en.electricity_price,
+                               [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
+
+
 def energy_accounts(batch: Batch, project: Any, index: pd.DatetimeIndex, temp_air: np.ndarray,
                     years: operation.OperatingYears, nv_mode: np.ndarray, *, seer_scale=1.0,
                     price_scale=1.0) -> Accounts:
@@ -316,8 +324,7 @@ def energy_accounts(batch: Batch, project: Any, index: pd.DatetimeIndex, temp_ai
     from . import energy
 
     en = project.energy
-    price_el = energy.hourly_price(index, en.electricity_price,
-                                   [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
+    price_el = _electricity_prices(index, en)
     scale = np.asarray(price_scale, dtype=float) * batch.price_scale
     month = index.month.to_numpy()
     kwh: dict[str, dict[str, np.ndarray]] = {}
@@ -369,15 +376,21 @@ class StageInputs:
     openings: pd.DataFrame
 
 
+def _simulate(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]):
+    """Batch, free-running year, changeover and operating years of ``variants``: (batch, modes, years)."""
+    ch, project = inputs.climate_hourly, inputs.project
+    temp_air = ch["temp_air"].to_numpy()
+    b = build_batch(project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, variants)
+    free = free_running(b, project, temp_air)
+    modes = changeover(b, project, ch, free.result.temp_op)
+    return b, modes, operating_years(b, project, temp_air, modes)
+
+
 def run_variants(inputs: StageInputs, variants: Sequence[Mapping[str, Any]] = ({},)):
     """Every step for the columns of ``variants``: (batch, nv modes, operating years, accounts)."""
     ch = inputs.climate_hourly
-    temp_air = ch["temp_air"].to_numpy()
-    b = build_batch(inputs.project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, variants)
-    free = free_running(b, inputs.project, temp_air)
-    modes = changeover(b, inputs.project, ch, free.result.temp_op)
-    years = operating_years(b, inputs.project, temp_air, modes)
-    acc = energy_accounts(b, inputs.project, ch.index, temp_air, years, modes)
+    b, modes, years = _simulate(inputs, variants)
+    acc = energy_accounts(b, inputs.project, ch.index, ch["temp_air"].to_numpy(), years, modes)
     return b, modes, years, acc
 
 
@@ -394,7 +407,7 @@ def variant_totals(b: Batch, modes: np.ndarray, acc: Accounts) -> pd.DataFrame:
     floor-area weighted over the zones.
     """
     rows = []
-    nv = variant_totals_nv(b, modes)
+    nv = _nv_mode_pct(b, modes)
     for v in range(int(b.variant.max()) + 1):
         cols = np.flatnonzero(b.variant == v)
         row = {}
@@ -419,13 +432,9 @@ _SCHEMES = ("baseline", "mixed")
 
 def _physical_of_chunk(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
     """Price-independent annual figures of each variant (see :func:`price_totals`)."""
-    ch, project = inputs.climate_hourly, inputs.project
-    temp_air = ch["temp_air"].to_numpy()
-    b = build_batch(project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, variants)
-    free = free_running(b, project, temp_air)
-    modes = changeover(b, project, ch, free.result.temp_op)
-    years = operating_years(b, project, temp_air, modes)
-    delivered = _delivered(b, project, temp_air, years, modes)
+    ch = inputs.climate_hourly
+    b, modes, years = _simulate(inputs, variants)
+    delivered = _delivered(b, inputs.project, ch["temp_air"].to_numpy(), years, modes)
     n_var = int(b.variant.max()) + 1
     assign = np.zeros((b.variant.size, n_var))
     assign[np.arange(b.variant.size), b.variant] = 1.0  # column → variant
@@ -442,12 +451,11 @@ def _physical_of_chunk(inputs: StageInputs, variants: Sequence[Mapping[str, Any]
         table[f"{scheme}_gas_kWh"] = d["gas"].sum(axis=0) @ assign / 1000
         for m in range(1, 13):
             table[f"{scheme}_peak_kW_m{m:02d}"] = electric[month == m].max(axis=0) / 1000
-    table["nv_mode_pct"] = variant_totals_nv(b, modes)
-    table["price_scale"] = np.array([float({**VARIANT_KEYS, **dict(v)}["price_scale"]) for v in variants])
+    table["nv_mode_pct"] = _nv_mode_pct(b, modes)
     return pd.DataFrame(table)
 
 
-def variant_totals_nv(b: Batch, modes: np.ndarray) -> np.ndarray:
+def _nv_mode_pct(b: Batch, modes: np.ndarray) -> np.ndarray:
     """Natural-ventilation hours of each variant [% of occupied hours], floor-area weighted over its zones."""
     out = []
     for v in range(int(b.variant.max()) + 1):
@@ -458,21 +466,19 @@ def variant_totals_nv(b: Batch, modes: np.ndarray) -> np.ndarray:
     return np.array(out)
 
 
-def price_totals(physical: pd.DataFrame, project: Any) -> pd.DataFrame:
+def price_totals(physical: pd.DataFrame, project: Any, price_scale) -> pd.DataFrame:
     """:data:`TOTAL_COLUMNS` of each variant from its price-independent figures and the project's tariff.
+
+    ``price_scale`` (variants,) multiplies every energy price of each variant.
 
     Cost = (Σ_h p_h·E_h + p_gas·G)·s + Σ_months P_peak·r_demand·s, with E_h the electricity
     delivered in hour-of-day h over the year [kWh] (time-of-use periods repeat every day), G the
     gas [kWh], P_peak each month's peak electrical demand [kW] and s the variant's price scale;
     carbon = f_el·E + f_gas·G. The same arithmetic as :func:`energy_accounts`, regrouped.
     """
-    from . import energy
-
     en = project.energy
-    hours = pd.date_range("2001-01-01", periods=24, freq="h")
-    price_h = energy.hourly_price(hours, en.electricity_price,
-                                  [(int(p.start[:2]), int(p.end[:2]), p.price) for p in en.electricity_periods])
-    scale = physical["price_scale"].to_numpy()
+    price_h = _electricity_prices(pd.date_range("2001-01-01", periods=24, freq="h"), en)  # by hour of day
+    scale = np.asarray(price_scale, dtype=float)
     out = {}
     for scheme in _SCHEMES:
         elec_h = physical[[f"{scheme}_electric_kWh_h{h:02d}" for h in range(24)]].to_numpy()
@@ -542,6 +548,5 @@ def sweep_totals(inputs: StageInputs, variants: Sequence[Mapping[str, Any]], *, 
         physical = pd.concat(parts, ignore_index=True)
         if store is not None:
             store.put(key, physical)
-    else:
-        physical = physical.assign(price_scale=[float({**VARIANT_KEYS, **v}["price_scale"]) for v in variants])
-    return price_totals(physical, inputs.project)
+    scale = [float({**VARIANT_KEYS, **v}["price_scale"]) for v in variants]
+    return price_totals(physical, inputs.project, scale)
