@@ -85,6 +85,80 @@ def _occupied(project: Any, index: pd.DatetimeIndex, end_shift: int) -> pd.Serie
                                   holidays=occ.holidays)
 
 
+@dataclass(frozen=True)
+class _ZoneBase:
+    """What every column of a zone shares, whatever the variant (computed once per set of inputs)."""
+
+    temp_air: np.ndarray  # (T,)
+    acceptable: np.ndarray  # (T,) wind and rain allow opening
+    night: np.ndarray  # (T,) night-purge hours
+    design_occ: np.ndarray  # (T,) occupied hours as designed
+    internal: np.ndarray  # (T, z) design internal gains [W]
+    solar: np.ndarray  # (T, z) [W]
+    coefficients: operation.FlowCoefficients  # of the z zones
+    free: np.ndarray  # (z,) openable free area [m²]
+    secure: np.ndarray  # (z,) of the secure openings [m²]
+    infiltration: np.ndarray  # (z,) [m³ s⁻¹]
+    fresh: np.ndarray  # (z,) fresh air in occupied hours [m³ s⁻¹]
+    areas: np.ndarray  # (z,) [m²]
+    h_op: np.ndarray  # (z,) [W K⁻¹]
+    h_w: np.ndarray  # (z,) [W K⁻¹]
+    openings: np.ndarray  # (z,) count of openable openings
+
+
+_BASE_MEMO: list = []  # [(inputs, _ZoneBase)]: the last inputs, kept alive so their ids stay theirs
+
+
+def _zone_base(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.DataFrame, loads: Mapping[str, Any],
+               openings: pd.DataFrame) -> _ZoneBase:
+    key = (project, climate_hourly, gains_hourly, loads, openings)
+    if _BASE_MEMO and all(a is b for a, b in zip(_BASE_MEMO[0][0], key)):
+        return _BASE_MEMO[0][1]
+    op = project.operation
+    index = climate_hourly.index
+    zones = list(project.zones)
+    names = [z.name for z in zones]
+    wind_met = climate_hourly["wind_speed"].to_numpy()
+    temp_air = climate_hourly["temp_air"].to_numpy()
+    hour = index.hour.to_numpy()
+    start, end = int(op.night_purge_start[:2]), int(op.night_purge_end[:2])
+    night = (hour >= start) | (hour < end) if start > end else (hour >= start) & (hour < end)
+
+    def by_zone(column: str) -> np.ndarray:
+        table = gains_hourly.pivot_table(index=gains_hourly.index, columns="zone", values=column, sort=False)
+        return table[names].reindex(index).to_numpy()
+
+    rows = [openings.loc[name] for name in names]
+    wind_at_zone = np.column_stack([
+        airflow.wind_speed_at_height_bs5925(wind_met, z.height_above_ground, project.sizing.terrain) for z in zones])
+    coefficients = operation.opening_flow_coefficients(
+        [z.ventilation for z in zones], wind_speed_met=wind_met, wind_speed_building=wind_at_zone,
+        opening_height=np.array([float(r["opening_height_m"]) for r in rows]),
+        stack_height=np.array([z.stack_height for z in zones]),
+        cp_windward=project.sizing.cp_windward, cp_leeward=project.sizing.cp_leeward,
+        discharge_coefficient=np.array([float(r["discharge_coefficient"]) for r in rows]),
+    )
+    base = _ZoneBase(
+        temp_air=temp_air,
+        acceptable=(climate_hourly["wind_ok"] & climate_hourly["rain_ok"]).astype(bool).to_numpy(),
+        night=night,
+        design_occ=climate_hourly["occupied"].astype(bool).to_numpy(),
+        internal=by_zone("people_sensible") + by_zone("lighting") + by_zone("equipment"),
+        solar=by_zone("solar"),
+        coefficients=coefficients,
+        free=np.array([sum(o.free_area * o.count for o in z.openings) for z in zones], dtype=float),
+        secure=np.array([sum(o.free_area * o.count for o in z.openings if o.secure) for z in zones], dtype=float),
+        infiltration=np.array([z.infiltration_ach * z.floor_area * z.ceiling_height / 3600 for z in zones]),
+        fresh=np.array([float(r["fresh_air_L_s"]) / 1000 for r in rows]),
+        areas=np.array([z.floor_area for z in zones], dtype=float),
+        h_op=np.array([loads[z.name]["htc_opaque_W_K"] for z in zones], dtype=float),
+        h_w=np.array([loads[z.name]["htc_windows_W_K"] for z in zones], dtype=float),
+        openings=np.array([sum(o.count for o in z.openings) for z in zones]),
+    )
+    _BASE_MEMO[:] = [(key, base)]
+    return base
+
+
 def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.DataFrame, loads: Mapping[str, Any],
                 openings: pd.DataFrame, variants: Sequence[Mapping[str, Any]] = ({},)) -> Batch:
     """Columns for every zone of every variant.
@@ -102,94 +176,61 @@ def build_batch(project: Any, climate_hourly: pd.DataFrame, gains_hourly: pd.Dat
         The openings stage's ``zones`` table indexed by zone (opening height, Cd, fresh air).
     variants : sequence of mappings
         Changes from the design, keys of :data:`VARIANT_KEYS`; ``{}`` is the design itself.
+
+    Notes
+    -----
+    Column ``v·z + k`` is zone k of variant v. What depends on the zone only (design gains, flow
+    coefficients, areas) is computed once for the same inputs and indexed; a variant scales it.
     """
     op = project.operation
     index = climate_hourly.index
-    T = len(index)
     zones = list(project.zones)
-    names = [z.name for z in zones]
-    wind_met = climate_hourly["wind_speed"].to_numpy()
-    temp_air = climate_hourly["temp_air"].to_numpy()
-    acceptable = (climate_hourly["wind_ok"] & climate_hourly["rain_ok"]).astype(bool).to_numpy()
-    hour = index.hour.to_numpy()
-    start, end = int(op.night_purge_start[:2]), int(op.night_purge_end[:2])
-    night = (hour >= start) | (hour < end) if start > end else (hour >= start) & (hour < end)
-    design_occ = climate_hourly["occupied"].astype(bool)
-
-    def by_zone(column: str) -> np.ndarray:
-        table = gains_hourly.pivot_table(index=gains_hourly.index, columns="zone", values=column, sort=False)
-        return table[names].reindex(index).to_numpy()
-
-    wind_at_zone = [airflow.wind_speed_at_height_bs5925(wind_met, z.height_above_ground, project.sizing.terrain)
-                    for z in zones]
-    design_internal = by_zone("people_sensible") + by_zone("lighting") + by_zone("equipment")
-    design_solar = by_zone("solar")
-    cols: dict[str, list] = {k: [] for k in ("zone", "variant", "area", "occ", "internal", "solar", "free", "secure",
-                                             "infiltration", "fresh", "day", "night", "fans", "criterion", "mass",
-                                             "h_op", "h_w", "arrangement", "height", "stack", "cd", "wind_bld",
-                                             "openings", "seer_scale", "price_scale")}
-    for v, raw in enumerate(variants):
-        change = {**VARIANT_KEYS, **dict(raw)}
+    nz = len(zones)
+    base = _zone_base(project, climate_hourly, gains_hourly, loads, openings)
+    changes = []
+    for raw in variants:
         unknown = set(raw) - set(VARIANT_KEYS)
         if unknown:
             msg = f"unknown variant keys {sorted(unknown)} (allowed: {', '.join(VARIANT_KEYS)})"
             raise ValueError(msg)
-        shift = int(change["end_shift"])
-        occupied = design_occ if shift == 0 else _occupied(project, index, shift)
-        occ = occupied.to_numpy(dtype=bool)
-        fans = op.ceiling_fans if change["fans"] is None else bool(change["fans"])
-        for z, zone in enumerate(zones):
-            if shift == 0:
-                internal = design_internal[:, z]
-            else:
-                internal = zone_internal_gains(index, occupied, zone)["total_sensible"].to_numpy()
-            fan_gain = op.fan_power * zone.floor_area * occ if fans else 0.0
-            free = sum(o.free_area * o.count for o in zone.openings) * change["area_scale"]
-            secure = sum(o.free_area * o.count for o in zone.openings if o.secure) * change["area_scale"]
-            row = openings.loc[zone.name]
-            cols["zone"].append(z)
-            cols["variant"].append(v)
-            cols["area"].append(zone.floor_area)
-            cols["occ"].append(occ)
-            cols["internal"].append(internal * change["gains_scale"] + fan_gain)
-            cols["solar"].append(design_solar[:, z] * change["solar_scale"])
-            cols["free"].append(free)
-            cols["secure"].append(secure)
-            cols["infiltration"].append(zone.infiltration_ach * zone.floor_area * zone.ceiling_height / 3600)
-            cols["fresh"].append(occ * float(row["fresh_air_L_s"]) / 1000)
-            cols["day"].append(occ & acceptable)
-            cols["night"].append((~occ) & night & acceptable & (temp_air >= op.night_purge_min_outdoor)
-                                 & bool(op.night_purge))
-            cols["fans"].append(fans)
-            cols["criterion"].append(change["criterion"] or op.changeover_criterion)
-            cols["mass"].append(change["mass_class"] or zone.mass_class)
-            cols["h_op"].append(loads[zone.name]["htc_opaque_W_K"])
-            cols["h_w"].append(loads[zone.name]["htc_windows_W_K"])
-            cols["arrangement"].append(zone.ventilation)
-            cols["height"].append(float(row["opening_height_m"]))
-            cols["stack"].append(zone.stack_height)
-            cols["cd"].append(float(row["discharge_coefficient"]))
-            cols["wind_bld"].append(wind_at_zone[z])
-            cols["openings"].append(sum(o.count for o in zone.openings))
-            cols["seer_scale"].append(float(change["seer_scale"]))
-            cols["price_scale"].append(float(change["price_scale"]))
-    stack2 = lambda key: np.column_stack(cols[key]) if cols[key] else np.zeros((T, 0))  # noqa: E731
-    areas = np.array(cols["area"], dtype=float)
-    params = thermal.zone_parameters(areas, np.array(cols["h_op"]), np.array(cols["h_w"]), cols["mass"])
-    coefficients = operation.opening_flow_coefficients(
-        cols["arrangement"], wind_speed_met=wind_met, wind_speed_building=stack2("wind_bld"),
-        opening_height=np.array(cols["height"]), stack_height=np.array(cols["stack"]),
-        cp_windward=project.sizing.cp_windward, cp_leeward=project.sizing.cp_leeward,
-        discharge_coefficient=np.array(cols["cd"]),
-    )
+        changes.append({**VARIANT_KEYS, **dict(raw)})
+    per_variant = lambda key, cast=float: np.array([cast(c[key]) for c in changes])  # noqa: E731
+    # occupied hours and internal gains: the design's, or those of each other end of the occupied period
+    order = [0] + sorted({int(c["end_shift"]) for c in changes} - {0})
+    occ_by_shift, internal_by_shift = [base.design_occ], [base.internal]
+    for shift in order[1:]:
+        occupied = _occupied(project, index, shift)
+        occ_by_shift.append(occupied.to_numpy(dtype=bool))
+        internal_by_shift.append(np.column_stack([zone_internal_gains(index, occupied, z)["total_sensible"].to_numpy()
+                                                  for z in zones]))
+    occ_table, internal_table = np.column_stack(occ_by_shift), np.concatenate(internal_by_shift, axis=1)
+    shift_of_variant = np.array([order.index(int(c["end_shift"])) for c in changes], dtype=int)
+    n_var = len(changes)
+    zone = np.tile(np.arange(nz), n_var)
+    variant = np.repeat(np.arange(n_var), nz)
+    col_shift = shift_of_variant[variant]
+    fans = np.array([op.ceiling_fans if c["fans"] is None else bool(c["fans"]) for c in changes], dtype=bool)[variant]
+    columns = lambda table, idx: np.ascontiguousarray(table[:, idx])  # noqa: E731 - (T, n), rows contiguous
+    occ = columns(occ_table, col_shift)
+    fan_gain = np.where(fans[None, :] & occ, op.fan_power * base.areas[zone][None, :], 0.0)
+    gains_scale, solar_scale = per_variant("gains_scale")[variant], per_variant("solar_scale")[variant]
+    area_scale = per_variant("area_scale")[variant]
+    night_ok = base.night & base.acceptable & (base.temp_air >= op.night_purge_min_outdoor) & bool(op.night_purge)
+    mass = [changes[v]["mass_class"] or zones[z].mass_class for v, z in zip(variant, zone)]
+    areas = base.areas[zone]
+    coefficients = operation.FlowCoefficients(wind=columns(base.coefficients.wind, zone), stack=base.coefficients.stack[zone],
+                                              ref_temp=base.coefficients.ref_temp)
     return Batch(
-        zone=np.array(cols["zone"]), variant=np.array(cols["variant"]), names=names, areas=areas, params=params,
-        occupied=stack2("occ").astype(bool), internal=stack2("internal"), solar=stack2("solar"),
-        coefficients=coefficients, free_area=np.array(cols["free"]), secure_area=np.array(cols["secure"]),
-        infiltration=np.array(cols["infiltration"]), fresh=stack2("fresh"), allowed_day=stack2("day").astype(bool),
-        allowed_night=stack2("night").astype(bool), fans=np.array(cols["fans"], dtype=bool),
-        criterion=cols["criterion"], openings=np.array(cols["openings"]), variants=[dict(v) for v in variants],
-        seer_scale=np.array(cols["seer_scale"], dtype=float), price_scale=np.array(cols["price_scale"], dtype=float),
+        zone=zone, variant=variant, names=[z.name for z in zones], areas=areas,
+        params=thermal.zone_parameters(areas, base.h_op[zone], base.h_w[zone], mass),
+        occupied=occ, internal=columns(internal_table, col_shift * nz + zone) * gains_scale[None, :] + fan_gain,
+        solar=columns(base.solar, zone) * solar_scale[None, :], coefficients=coefficients,
+        free_area=base.free[zone] * area_scale, secure_area=base.secure[zone] * area_scale,
+        infiltration=base.infiltration[zone], fresh=occ * base.fresh[zone][None, :],
+        allowed_day=occ & base.acceptable[:, None], allowed_night=~occ & night_ok[:, None], fans=fans,
+        criterion=[changes[v]["criterion"] or op.changeover_criterion for v in variant],
+        openings=base.openings[zone], variants=[dict(v) for v in variants],
+        seer_scale=per_variant("seer_scale")[variant], price_scale=per_variant("price_scale")[variant],
     )
 
 
@@ -525,14 +566,16 @@ def sweep_key(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]) -> str
 
 
 def sweep_totals(inputs: StageInputs, variants: Sequence[Mapping[str, Any]], *, scheduler: str | None = None,
-                 jobs: int | None = None, chunk_columns: int = CHUNK_COLUMNS, store=None) -> pd.DataFrame:
+                 jobs: int | None = None, chunk_columns: int = CHUNK_COLUMNS, store=None,
+                 workers=None) -> pd.DataFrame:
     """:func:`variant_totals` of many variants, in chunks run by :func:`calcs.sweep.map_chunks`.
 
     The variants are cut into chunks of about ``chunk_columns`` columns (whole variants: a
     variant's demand charge needs all its zones); each chunk runs every step on its own and
     returns its price-independent figures, which :func:`price_totals` values with the project's
     tariff. The table is the same whichever way the chunks ran (local process pool by default,
-    or Dask). ``store`` (a :class:`calcs.sweep.SweepStore`, optional) keeps the price-independent
+    or Dask; ``workers``: a local pool started ahead, :func:`calcs.sweep.start_workers`).
+    ``store`` (a :class:`calcs.sweep.SweepStore`, optional) keeps the price-independent
     table under :func:`sweep_key`, so a change of prices or carbon factors re-prices it without
     simulating again. Returns one row per variant, in the order given, index ``variant``.
     """
@@ -544,7 +587,8 @@ def sweep_totals(inputs: StageInputs, variants: Sequence[Mapping[str, Any]], *, 
     if physical is None:
         per_chunk = max(1, chunk_columns // max(1, len(inputs.project.zones)))
         chunks = [variants[i:i + per_chunk] for i in range(0, len(variants), per_chunk)]
-        parts = sweep.map_chunks(_physical_of_chunk, chunks, context=inputs, scheduler=scheduler, jobs=jobs)
+        parts = sweep.map_chunks(_physical_of_chunk, chunks, context=inputs, scheduler=scheduler, jobs=jobs,
+                                 workers=workers)
         physical = pd.concat(parts, ignore_index=True)
         if store is not None:
             store.put(key, physical)

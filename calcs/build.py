@@ -228,77 +228,140 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
                 seconds: dict[str, float], say: Callable[[str], None]) -> dict[str, dict[str, Any]]:
     """Run (or reuse from the stage cache) every stage; return {stage: {key, reused, outputs_digest}}.
 
-    Stages run as soon as the stages they read (:data:`calcs.paths.STAGE_UPSTREAM`) are done,
-    so independent stages (comfort and energy) execute at the same time, each in its own kernel.
-    The cache sits beside the build folders (``<parent>/.stage-cache``); ``fresh`` executes every
-    stage (and still refreshes the cache). See :mod:`calcs.cache`. If a stage fails, the stages
-    already running finish and the first failure is raised.
+    A stage executes once the stages it reads (:data:`calcs.paths.STAGE_UPSTREAM`) are done, so
+    independent stages (comfort and energy) execute at the same time, each in its own kernel.
+    A stage whose upstream stages are still running has its kernel started ahead: start-up and
+    imports overlap with the upstream calculations, and the kernel waits at its gate
+    (:func:`calcs.stage.wait_for_gate`) until the build has the upstream digests and so the
+    stage's cache key; then the build either lets it run or, when the cache holds that key after
+    all, fetches the outputs and tells the kernel to end. The cache sits beside the build folders
+    (``<parent>/.stage-cache``); ``fresh`` executes every stage (and still refreshes the cache).
+    See :mod:`calcs.cache`. If a stage fails, the stages already running finish, the kernels
+    waiting at their gates end, and the first failure is raised. ``seconds`` receives, per
+    stage, the time from the decision to execute (or fetch) to its end.
     """
     from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
 
     from . import cache
+    from .stage import GATE_RUN, GATE_SKIP, GATES_DIR
 
     store = cache.StageCache(target.parent / CACHE_DIR)
     data = json.loads(resolved.read_text(encoding="utf-8"))
     defaults = json.loads((resolved.parent / DEFAULTS_FILE).read_text(encoding="utf-8"))["defaults_used"]
     weather_sha = next(v for k, v in inputs_sha.items() if k.startswith("weather/"))
     code = cache.code_version()
-    upstream: dict[str, str] = {}
+    gates = work / GATES_DIR
+    gates.mkdir()
+    upstream: dict[str, str] = {}  # digests of the finished stages' outputs
     record: dict[str, dict[str, Any]] = {}
-    total = len(STAGES)
-
-    def one(stage: str) -> tuple[str, str, bool]:
-        number = STAGES.index(stage) + 1
-        key = cache.stage_key(stage, data, defaults, weather_sha, upstream, code)
-        t0 = time.perf_counter()
-        reused = not fresh and store.fetch(stage, key, work)
-        if reused:
-            say(f"[{number}/{total}] {stage} reused from the stage cache")
-        else:
-            say(f"[{number}/{total}] {stage} ...")
-            _run_stage(stage, resolved, work)
-            store.store(stage, key, work)
-        seconds[stage] = time.perf_counter() - t0
-        if not reused:
-            say(f"[{number}/{total}] {stage} done in {seconds[stage]:.1f} s")
-        return stage, key, bool(reused)
-
-    pending = list(STAGES)
+    keys: dict[str, str] = {}
+    decided: dict[str, str] = {}  # stage → GATE_RUN or GATE_SKIP
+    started: dict[str, float] = {}
     running: dict[Any, str] = {}
     failure: BaseException | None = None
+    total = len(STAGES)
+
+    def number(stage: str) -> str:
+        return f"[{STAGES.index(stage) + 1}/{total}] {stage}"
+
+    def open_gate(stage: str, word: str) -> None:
+        tmp = gates / f".{stage}.tmp"
+        tmp.write_text(word, encoding="utf-8")
+        os.replace(tmp, gates / stage)
+        decided[stage] = word
+
+    def finished(stage: str, reused: bool) -> None:
+        upstream[stage] = cache.folder_digest(work / stage)
+        record[stage] = {"key": keys[stage], "reused": reused, "outputs_digest": upstream[stage]}
+        seconds[stage] = time.perf_counter() - started[stage]
+
+    def step(stage: str) -> None:
+        """Take one stage as far as the finished upstream stages allow."""
+        launched = stage in running.values()
+        if not all(u in upstream for u in STAGE_UPSTREAM[stage]):
+            if not launched:  # start its kernel ahead, at a lower priority; it waits at its gate
+                running[pool.submit(_run_stage, stage, resolved, work, True)] = stage
+            return
+        keys[stage] = cache.stage_key(stage, data, defaults, weather_sha, upstream, code)
+        started[stage] = time.perf_counter()
+        if not fresh and store.fetch(stage, keys[stage], work):
+            if launched:
+                open_gate(stage, GATE_SKIP)
+            say(f"{number(stage)} reused from the stage cache")
+            finished(stage, reused=True)
+            return
+        say(f"{number(stage)} ...")
+        open_gate(stage, GATE_RUN)
+        if not launched:
+            running[pool.submit(_run_stage, stage, resolved, work)] = stage
+
     with ThreadPoolExecutor(max_workers=len(STAGES)) as pool:
-        while pending or running:
-            if failure is None:
-                for stage in [s for s in pending if all(u in upstream for u in STAGE_UPSTREAM[s])]:
-                    pending.remove(stage)
-                    running[pool.submit(one, stage)] = stage
-            if not running:
-                break
-            done, _ = wait(running, return_when=FIRST_COMPLETED)
-            for future in done:
-                running.pop(future)
-                try:
-                    stage, key, reused = future.result()
-                except BaseException as exc:  # noqa: BLE001 - re-raised once the others finish
-                    failure = failure or exc
-                    continue
-                upstream[stage] = cache.folder_digest(work / stage)
-                record[stage] = {"key": key, "reused": reused, "outputs_digest": upstream[stage]}
+        try:
+            while True:
+                before = -1
+                while failure is None and before != len(record) + len(decided):
+                    before = len(record) + len(decided)
+                    for stage in STAGES:
+                        if stage not in record and decided.get(stage) != GATE_RUN:
+                            step(stage)
+                if not running:
+                    break
+                done, _ = wait(running, return_when=FIRST_COMPLETED)
+                for future in done:
+                    stage = running.pop(future)
+                    try:
+                        future.result()
+                    except BaseException as exc:  # noqa: BLE001 - re-raised once the others finish
+                        if decided.get(stage) == GATE_RUN:
+                            failure = failure or exc
+                        continue
+                    store.store(stage, keys[stage], work)
+                    finished(stage, reused=False)
+                    say(f"{number(stage)} done in {seconds[stage]:.1f} s")
+                if failure is not None:
+                    for stage in set(running.values()) - set(decided):
+                        open_gate(stage, GATE_SKIP)
+        finally:
+            for stage in set(running.values()) - set(decided):
+                open_gate(stage, GATE_SKIP)  # kernels still waiting at their gates end
+    shutil.rmtree(gates, ignore_errors=True)
     if failure is not None:
         raise failure
     return {stage: record[stage] for stage in STAGES}
 
 
-def _run_stage(stage: str, resolved: Path, work: Path) -> None:
+def _run_stage(stage: str, resolved: Path, work: Path, ahead: bool = False) -> None:
+    """Execute one stage notebook; a failed cell becomes one StageError line.
+
+    The notebook is written as ``notebooks/.<stage>.running.ipynb`` and renamed to
+    ``<stage>.ipynb`` when it ends (a failed one too, for inspection); the notebook of a kernel
+    the build ended at its gate (:class:`calcs.stage.StageSkipped`) is deleted. ``ahead``: the
+    kernel is started ahead of its upstream stages, at a lower processor priority.
+    """
     import papermill
 
+    running = work / "notebooks" / f".{stage}.running.ipynb"
+    final = work / "notebooks" / f"{stage}.ipynb"
     try:
-        run_template(stage, resolved, work)
+        run_template(stage, resolved, work, out=running, low_priority=ahead)
     except papermill.PapermillExecutionError as exc:
+        if exc.ename == "StageSkipped":
+            running.unlink(missing_ok=True)
+            raise
+        _keep_notebook(running, final)
         cell = exc.cell_index + 1 if isinstance(exc.cell_index, int) else "?"
         evalue = str(exc.evalue).strip().splitlines()[0] if str(exc.evalue).strip() else ""
         msg = f"stage '{stage}' failed in cell {cell}: {exc.ename}: {evalue}"
         raise StageError(msg) from None
+    except BaseException:
+        _keep_notebook(running, final)
+        raise
+    os.replace(running, final)
+
+
+def _keep_notebook(running: Path, final: Path) -> None:
+    if running.exists():
+        os.replace(running, final)
 
 
 def merge_results(work: Path) -> dict[str, Any]:

@@ -16,6 +16,8 @@ from __future__ import annotations
 
 import json
 import math
+import os
+import time
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -27,6 +29,13 @@ from .paths import STAGE_UPSTREAM, STAGES, stage_dir, stage_template
 from .project import DEFAULTS_FILE, Project, defaults_used, load_project
 
 RESULTS_FILE = "results.json"
+#: Folder of a build's stage gates (``<build>/.gates/<stage>``), present only while a build runs.
+GATES_DIR = ".gates"
+GATE_RUN, GATE_SKIP = "run", "skip"
+
+
+class StageSkipped(StageError):
+    """A build started this stage's kernel ahead and then did not need it (see :func:`wait_for_gate`)."""
 
 
 @dataclass
@@ -143,15 +152,54 @@ def open_stage(name: str, project_file: str | Path, build_dir: str | Path = "") 
     project = load_project(project_path)
     folder = Path(build_dir).resolve() if build_dir else (project_path.parent.parent / "build" / "template-check")
     folder.mkdir(parents=True, exist_ok=True)
+    wait_for_gate(folder, name)
     return Stage(name=name, project=project, project_file=project_path, build_dir=folder)
 
 
-def run_template(stage: str, project_file: str | Path, build_dir: str | Path) -> Path:
-    """Execute one stage template with papermill into ``<build_dir>/notebooks/``."""
+def wait_for_gate(build_dir: str | Path, stage: str, poll: float = 0.01) -> None:
+    """Wait until the build running this kernel lets the stage go on (no wait outside a build).
+
+    A build starts the kernels of later stages ahead, while the stages they read are still
+    running, so kernel start-up and imports overlap with those stages' calculations; each
+    kernel then waits here, in :func:`open_stage`, before it reads anything. The build writes
+    ``<build>/.gates/<stage>``: ``run`` once every upstream stage is done and the stage is to be
+    executed, ``skip`` when the stage's outputs came from the stage cache after all, or the build
+    stopped (then :class:`StageSkipped` is raised and the kernel ends). A template run on its
+    own has no gates folder and never waits.
+    """
+    gates = Path(build_dir) / GATES_DIR
+    if not gates.is_dir():
+        return
+    gate = gates / stage
+    parent = os.getppid()
+    while True:
+        try:
+            word = gate.read_text(encoding="utf-8").strip()
+        except FileNotFoundError:
+            if os.getppid() != parent:  # the build process is gone
+                msg = f"stage '{stage}': the build that started this kernel has ended"
+                raise StageSkipped(msg) from None
+            time.sleep(poll)
+            continue
+        if word == GATE_RUN:
+            return
+        msg = f"stage '{stage}': not executed (the build said {word!r})"
+        raise StageSkipped(msg)
+
+
+def run_template(stage: str, project_file: str | Path, build_dir: str | Path, out: str | Path | None = None,
+                 low_priority: bool = False) -> Path:
+    """Execute one stage template with papermill into ``out`` (default ``<build_dir>/notebooks/<stage>.ipynb``).
+
+    ``low_priority``: run the kernel at a lower processor priority (:data:`LOW_PRIORITY`), for a
+    kernel a build starts ahead of the stages it waits for, so its start-up and imports yield the
+    processor to the stages that are calculating.
+    """
     import papermill
 
-    out = Path(build_dir) / "notebooks" / f"{stage}.ipynb"
+    out = Path(out) if out else Path(build_dir) / "notebooks" / f"{stage}.ipynb"
     out.parent.mkdir(parents=True, exist_ok=True)
+    extra = {"kernel_manager_class": _low_priority_kernel_manager()} if low_priority else {}
     papermill.execute_notebook(
         str(stage_template(stage)),
         str(out),
@@ -163,8 +211,33 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path) ->
         resources={"metadata": {"path": str(Path(build_dir).resolve())}},
         # the kernel would otherwise warn on stderr about its local TCP transport
         extra_arguments=["--IPKernelApp.log_level=ERROR"],
+        **extra,
     )
     return out
+
+
+#: Niceness of a kernel started with ``low_priority`` (POSIX ``nice``; a priority only ever lowered).
+LOW_PRIORITY = 10
+_LOW_PRIORITY_MANAGER: Any = None
+
+
+def _low_priority_kernel_manager():
+    """A Jupyter kernel manager whose kernels start under ``nice -n LOW_PRIORITY`` (where there is ``nice``)."""
+    global _LOW_PRIORITY_MANAGER
+    if _LOW_PRIORITY_MANAGER is None:
+        import shutil
+
+        from jupyter_client import AsyncKernelManager
+
+        nice = shutil.which("nice")
+
+        class LowPriorityKernelManager(AsyncKernelManager):
+            def format_kernel_cmd(self, extra_arguments=None):
+                cmd = super().format_kernel_cmd(extra_arguments)
+                return [nice, "-n", str(LOW_PRIORITY), *cmd] if nice else cmd
+
+        _LOW_PRIORITY_MANAGER = LowPriorityKernelManager
+    return _LOW_PRIORITY_MANAGER
 
 
 def read_table(path: str | Path, **kwargs: Any) -> pd.DataFrame:

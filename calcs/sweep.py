@@ -8,8 +8,9 @@ the numbers are the same however the chunks were run.
 Where the chunks run:
 
 * ``scheduler=None`` (default): a local process pool of ``jobs`` workers (default: the CPU
-  count); one chunk, or ``jobs=1``, runs in this process. The shared ``context`` is sent to each
-  worker once, when it starts.
+  count); one chunk, or ``jobs=1``, runs in this process. The shared ``context`` is pickled once
+  and unpickled once per worker. A stage may start the pool ahead (:func:`start_workers`), so
+  the workers' start-up and imports overlap with its wait for earlier stages.
 * ``scheduler="local-cluster"``: a Dask distributed ``LocalCluster`` started on this machine for
   the run and closed after it.
 * any other value: the address of a running Dask scheduler (``tcp://host:8786``); the context is
@@ -33,8 +34,9 @@ from typing import Any
 
 from calcs.errors import ProjectError
 
-__all__ = ["JOBS_ENV", "LOCAL_CLUSTER", "SCHEDULER_ENV", "STORE_ENV", "SweepStore", "check_jobs", "check_scheduler",
-           "describe", "from_environment", "map_chunks", "store_from_environment"]
+__all__ = ["JOBS_ENV", "LOCAL_CLUSTER", "SCHEDULER_ENV", "STORE_ENV", "THREADS_ENV", "LocalWorkers", "SweepStore",
+           "check_jobs", "check_scheduler", "describe", "from_environment", "map_chunks", "start_workers",
+           "store_from_environment"]
 
 #: ``scheduler`` value that starts a Dask LocalCluster on this machine.
 LOCAL_CLUSTER = "local-cluster"
@@ -44,8 +46,11 @@ JOBS_ENV = "FREERUN_JOBS"
 #: Folder of stored price-independent sweep tables (set by a build unless ``--fresh``).
 STORE_ENV = "FREERUN_SWEEP_STORE"
 
+#: Threads of the compiled loops in one process (read by :mod:`calcs.thermal`); the pool's
+#: workers set it to 1.
+THREADS_ENV = "FREERUN_THREADS"
+
 _ADDRESS = re.compile(r"^[a-z]+://\S+$|^[\w.-]+:\d+$")
-_CONTEXT: Any = None  # the shared context inside a local worker process
 
 
 def check_scheduler(scheduler: str | None) -> str | None:
@@ -86,13 +91,29 @@ def describe(scheduler: str | None, jobs: int | None) -> str:
     return f"Dask scheduler {scheduler}"
 
 
-def _init_worker(context: Any) -> None:
-    global _CONTEXT
-    _CONTEXT = context
+_CONTEXTS: dict[int, Any] = {}  # inside a local worker: the shared context of the current map, by token
+_TOKENS = iter(range(1, 1 << 62))
 
 
-def _call(fn: Callable[[Any, Any], Any], chunk: Any) -> Any:
-    return fn(_CONTEXT, chunk)
+def _start_worker(preload: Sequence[str]) -> None:
+    import importlib
+
+    os.environ[THREADS_ENV] = "1"  # the pool's processes are the parallelism: one thread each
+    for module in preload:
+        importlib.import_module(module)
+
+
+def _call(fn: Callable[[Any, Any], Any], token: int, blob: bytes, chunk: Any) -> Any:
+    if token not in _CONTEXTS:
+        import pickle
+
+        _CONTEXTS.clear()
+        _CONTEXTS[token] = pickle.loads(blob)
+    return fn(_CONTEXTS[token], chunk)
+
+
+def _ready() -> int:
+    return os.getpid()
 
 
 def _pool_context():
@@ -103,13 +124,66 @@ def _pool_context():
     return multiprocessing.get_context()
 
 
-def _run_local(fn, chunks, context, jobs):
-    workers = max(1, min(jobs or os.cpu_count() or 1, len(chunks)))
-    if workers == 1:
+class LocalWorkers:
+    """A local process pool, started before its work arrives (see :func:`start_workers`).
+
+    Its workers import the ``preload`` modules as they start (when the workers are forked from a
+    server process, the server imports them once and every worker inherits them), so a stage can
+    start the pool before it waits for its inputs and find it ready. :meth:`map` sends the shared
+    context once per map (pickled once; each worker unpickles it once).
+    """
+
+    def __init__(self, jobs: int | None = None, preload: Sequence[str] = ()) -> None:
+        check_jobs(jobs)
+        self.jobs = jobs or os.cpu_count() or 1
+        context = _pool_context()
+        if context.get_start_method() == "forkserver" and preload:
+            context.set_forkserver_preload(list(preload))
+        self._pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=context, initializer=_start_worker,
+                                         initargs=(tuple(preload),))
+        self._warm = [self._pool.submit(_ready) for _ in range(self.jobs)]  # start every worker now
+
+    def map(self, fn: Callable[[Any, Any], Any], chunks: Sequence[Any], context: Any = None) -> list[Any]:
+        """``[fn(context, chunk) for chunk in chunks]`` on the pool's workers, in the order of ``chunks``."""
+        import pickle
+
+        token, blob = next(_TOKENS), pickle.dumps(context, protocol=pickle.HIGHEST_PROTOCOL)
+        futures = [self._pool.submit(_call, fn, token, blob, chunk) for chunk in chunks]
+        return [future.result() for future in futures]
+
+    def close(self) -> None:
+        """Stop the workers (idempotent)."""
+        self._pool.shutdown(wait=True, cancel_futures=True)
+
+    def __enter__(self) -> LocalWorkers:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+
+def start_workers(scheduler: str | None = None, jobs: int | None = None,
+                  preload: Sequence[str] = ()) -> LocalWorkers | None:
+    """Start the local process pool that :func:`map_chunks` will use, ahead of the work.
+
+    Returns None where there is nothing to start here: a Dask ``scheduler`` (its workers are the
+    cluster's) or ``jobs=1`` (the chunks then run in this process). ``preload``: modules the
+    workers import as they start (for a stage: the calculation modules its chunks call).
+    """
+    check_scheduler(scheduler)
+    check_jobs(jobs)
+    if scheduler is not None or (jobs or os.cpu_count() or 1) == 1:
+        return None
+    return LocalWorkers(jobs, preload)
+
+
+def _run_local(fn, chunks, context, jobs, workers):
+    if workers is not None:
+        return workers.map(fn, chunks, context)
+    if max(1, min(jobs or os.cpu_count() or 1, len(chunks))) == 1:
         return [fn(context, chunk) for chunk in chunks]
-    with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(), initializer=_init_worker,
-                             initargs=(context,)) as pool:
-        return list(pool.map(_call, [fn] * len(chunks), chunks))
+    with LocalWorkers(min(jobs or os.cpu_count() or 1, len(chunks))) as pool:
+        return pool.map(fn, chunks, context)
 
 
 def _run_dask(fn, chunks, context, scheduler, jobs):
@@ -146,7 +220,8 @@ def _run_dask(fn, chunks, context, scheduler, jobs):
 
 
 def map_chunks(fn: Callable[[Any, Any], Any], chunks: Sequence[Any], *, context: Any = None,
-               scheduler: str | None = None, jobs: int | None = None) -> list[Any]:
+               scheduler: str | None = None, jobs: int | None = None,
+               workers: LocalWorkers | None = None) -> list[Any]:
     """``[fn(context, chunk) for chunk in chunks]``, run in parallel.
 
     Parameters
@@ -161,6 +236,8 @@ def map_chunks(fn: Callable[[Any, Any], Any], chunks: Sequence[Any], *, context:
         None (local process pool), ``"local-cluster"`` or a Dask scheduler address.
     jobs : int, optional
         Workers of the local pool or the local cluster (default: the CPU count).
+    workers : LocalWorkers, optional
+        A local pool started earlier (:func:`start_workers`); used when ``scheduler`` is None.
 
     Returns
     -------
@@ -178,7 +255,7 @@ def map_chunks(fn: Callable[[Any, Any], Any], chunks: Sequence[Any], *, context:
     if not chunks:
         return []
     if scheduler is None:
-        return _run_local(fn, chunks, context, jobs)
+        return _run_local(fn, chunks, context, jobs, workers)
     return _run_dask(fn, chunks, context, scheduler, jobs)
 
 

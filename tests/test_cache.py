@@ -82,6 +82,37 @@ def test_a_corrupted_cache_entry_is_detected_and_rebuilt(project, root):
     again = _build(project, root / "d")
     assert _executed(again) == ["loads"]  # its outputs come out identical, so later stages stay reused
     assert (root / "P01" / "results.json").read_bytes() == (root / "d" / "results.json").read_bytes()
+    # the later stages' kernels were started ahead while loads ran, then told to end: their
+    # notebooks are the cached ones, and nothing of the kernels that ended is left behind
+    for stage in ("openings", "comfort", "energy"):
+        key = again["stages"][stage]["key"]
+        cached = root / ".stage-cache" / stage / key / "notebook.ipynb"
+        assert (root / "d" / "notebooks" / f"{stage}.ipynb").read_bytes() == cached.read_bytes(), stage
+    hidden = [p.relative_to(root / "d").as_posix() for p in (root / "d").rglob(".*")]
+    assert hidden == []  # no .gates folder, no .<stage>.running.ipynb
+
+
+def test_kernels_start_ahead_but_read_nothing_before_their_upstream_stages_end(project, root):
+    """In a fresh build every later stage's kernel starts before the stage it waits for has ended,
+    and its first cell (imports, then open_stage, which waits at the gate) ends after it."""
+    from datetime import datetime
+
+    _build(project, root / "ahead", "--fresh")
+
+    def times(stage):
+        nb = json.loads((root / "ahead" / "notebooks" / f"{stage}.ipynb").read_text(encoding="utf-8"))
+        opening = next(c for c in nb["cells"] if c["cell_type"] == "code" and "open_stage(" in "".join(c["source"]))
+        parse = datetime.fromisoformat
+        return (parse(nb["metadata"]["papermill"]["start_time"]), parse(opening["metadata"]["papermill"]["end_time"]),
+                parse(nb["metadata"]["papermill"]["end_time"]))
+
+    t = {stage: times(stage) for stage in STAGES}
+    from calcs.paths import STAGE_UPSTREAM
+
+    for stage in STAGES[1:]:
+        last_upstream_end = max(t[u][2] for u in STAGE_UPSTREAM[stage])
+        assert t[stage][1] >= last_upstream_end, f"{stage} went past its gate before its upstream stages ended"
+    assert t["energy"][0] < t["climate"][2]  # started ahead: its kernel was up while climate still ran
 
 
 def test_changing_the_weather_reruns_everything(project, tmp_path):

@@ -51,3 +51,39 @@ def test_background_chart_is_written_and_a_failing_one_raises(tmp_path, monkeypa
     with pytest.raises(ValueError, match="renderer broke"):
         renderer.wait()
     assert not (tmp_path / "bad.png").exists()
+
+
+# ------------------------------------------------------------------ gates of kernels started ahead
+
+
+def test_a_template_run_on_its_own_does_not_wait(tmp_path):
+    from calcs.stage import wait_for_gate
+
+    wait_for_gate(tmp_path, "loads")  # no .gates folder: returns at once
+
+
+@pytest.mark.parametrize("word", ["run", "skip"])
+def test_open_stage_waits_at_its_gate_until_the_build_decides(tmp_path, word):
+    import threading
+    import time
+
+    from calcs.stage import GATES_DIR, StageSkipped
+
+    gates = tmp_path / GATES_DIR
+    gates.mkdir()
+    opened = []
+
+    def decide():
+        time.sleep(0.3)
+        opened.append(time.perf_counter())
+        (gates / "loads").write_text(word, encoding="utf-8")
+
+    threading.Thread(target=decide).start()
+    t0 = time.perf_counter()
+    if word == "run":
+        st = open_stage("loads", DEMO / "project.toml", tmp_path)
+        assert st.name == "loads"
+    else:
+        with pytest.raises(StageSkipped, match="not executed"):
+            open_stage("loads", DEMO / "project.toml", tmp_path)
+    assert opened and time.perf_counter() >= opened[0] >= t0  # it returned only after the gate was written
