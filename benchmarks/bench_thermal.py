@@ -14,7 +14,9 @@ Runs, in one process:
    compiled, for the same 1,000 variants; and a plain Python callable H_ve on
    the numpy engine for 100 variants (``--callable-variants``).
 
-It prints zone-hours per second for each and the batch/loop ratio.
+It prints zone-hours per second for each and the batch/loop ratio. The compiled runs are timed
+on one thread and on all CPUs (``threads=``, the zones split into column blocks; the numbers are
+the same bit for bit), and the ratios are given for both.
 Targets of issue 8: ≥ 20 million zone-hours/s in the batch, ≥ 100× the loop.
 
 The inputs are constructed (sinusoidal outdoor temperature, office schedules,
@@ -98,6 +100,11 @@ def main() -> None:
     zone_hours = n * HOURS
     tm0 = 20.0
 
+    cpus = thermal.thread_count()
+    t_ctrl1, _ = best_of(
+        args.repeat,
+        lambda: thermal.simulate(params, temp_air, gi, gs, h_ve, temp_m_initial=tm0, threads=1, **controls),
+    )
     t_ctrl, res = best_of(
         args.repeat,
         lambda: thermal.simulate(params, temp_air, gi, gs, h_ve, temp_m_initial=tm0, **controls),
@@ -105,6 +112,10 @@ def main() -> None:
     t_numpy, _ = best_of(
         1,
         lambda: thermal.simulate(params, temp_air, gi, gs, h_ve, temp_m_initial=tm0, engine="numpy", **controls),
+    )
+    t_free1, _ = best_of(
+        args.repeat,
+        lambda: thermal.simulate(params, temp_air, gi, gs, h_ve, temp_m_initial=tm0, threads=1),
     )
     t_free, _ = best_of(
         args.repeat,
@@ -159,32 +170,40 @@ def main() -> None:
     occ = controls["occupied"]
     area = params.floor_area
     night = ~occ & ((np.arange(HOURS) % 24 >= 22) | (np.arange(HOURS) % 24 < 6))
-    t_win, res_win = best_of(
-        args.repeat,
-        lambda: operation.simulate_free_running(
+    def windows(threads):
+        return operation.simulate_free_running(
             params, temp_air=temp_air + 6.0, gains_internal=gi, gains_solar=gs, coefficients=coeff,
-            free_area=area * rng.uniform(0.01, 0.05, n), secure_area=area * 0.005,
+            free_area=free_area, secure_area=area * 0.005,
             infiltration_flow=area * 3 * 0.3 / 3600, background_flow=np.where(occ[:, None], area * 0.0012, 0.0),
             allowed_day=np.broadcast_to(occ[:, None], (HOURS, n)), allowed_night=np.broadcast_to(night[:, None], (HOURS, n)),
-            low_setpoint=21.0, night_low_setpoint=18.0, temp_m_initial=tm0),
-    )
+            low_setpoint=21.0, night_low_setpoint=18.0, temp_m_initial=tm0, threads=threads)
 
-    rate_ctrl = zone_hours / t_ctrl
+    free_area = area * rng.uniform(0.01, 0.05, n)
+    t_win1, _ = best_of(args.repeat, lambda: windows(1))
+    t_win, res_win = best_of(args.repeat, lambda: windows(None))
+
     rate_loop = HOURS / t_loop
+    rate_loop_free = HOURS / t_loop_free
+
+    def row(label, seconds, loop_rate=None):
+        rate = zone_hours / seconds
+        ratio = f"  {rate / loop_rate:6.0f} x the loop" if loop_rate else ""
+        print(f"  {label:<52s}: {seconds:8.3f} s  {rate / 1e6:8.2f} M zone-h/s{ratio}")
+
     print(f"hourly 5R1C benchmark: {n} variants x {HOURS} h = {zone_hours:,} zone-hours (best of {args.repeat})")
-    print(f"  compiled, set-points + limits + hourly H_ve   : {t_ctrl:8.3f} s  {rate_ctrl / 1e6:8.2f} M zone-h/s")
-    print(f"  numpy engine, the same                        : {t_numpy:8.3f} s  {zone_hours / t_numpy / 1e6:8.2f} M zone-h/s")
-    print(f"  compiled, free-floating, hourly H_ve          : {t_free:8.3f} s  {zone_hours / t_free / 1e6:8.2f} M zone-h/s")
-    print(f"  compiled, set-points, with 7-day warm-up      : {t_warm:8.3f} s  {zone_hours / t_warm / 1e6:8.2f} M zone-h/s")
-    print(f"  scalar Python loop, 1 variant, set-points     : {t_loop:8.3f} s  {rate_loop / 1e6:8.4f} M zone-h/s")
-    print(f"  scalar Python loop, 1 variant, free-floating  : {t_loop_free:8.3f} s  {HOURS / t_loop_free / 1e6:8.4f} M zone-h/s")
-    print(f"  ratio compiled / loop, set-points             : {rate_ctrl / rate_loop:8.0f} x")
-    print(f"  ratio compiled / loop, free-floating          : {(zone_hours / t_free) / (HOURS / t_loop_free):8.0f} x")
-    print(f"  max |θ_air compiled − loop| (variant {j})       : {max_diff:.2e} K")
-    print(
-        f"  window-controlled (fixed point), compiled     : {t_win:8.3f} s  {zone_hours / t_win / 1e6:8.2f} M zone-h/s, "
-        f"unconverged zone-hours {int(res_win.result.unconverged_hours.sum())}"
-    )
+    row("compiled, set-points + limits + hourly H_ve, 1 thread", t_ctrl1, rate_loop)
+    row(f"compiled, the same, {cpus} threads", t_ctrl, rate_loop)
+    row("numpy engine, the same", t_numpy)
+    row("compiled, free-floating, hourly H_ve, 1 thread", t_free1, rate_loop_free)
+    row(f"compiled, free-floating, {cpus} threads", t_free, rate_loop_free)
+    row(f"compiled, set-points, with 7-day warm-up, {cpus} threads", t_warm)
+    print(f"  {'scalar Python loop, 1 variant, set-points':<52s}: {t_loop:8.3f} s  {rate_loop / 1e6:8.4f} M zone-h/s")
+    print(f"  {'scalar Python loop, 1 variant, free-floating':<52s}: {t_loop_free:8.3f} s  "
+          f"{rate_loop_free / 1e6:8.4f} M zone-h/s")
+    print(f"  max |θ_air compiled − loop| (variant {j})             : {max_diff:.2e} K")
+    row("window-controlled (fixed point), compiled, 1 thread", t_win1)
+    row(f"window-controlled (fixed point), compiled, {cpus} thr.", t_win)
+    print(f"  unconverged zone-hours of the window-controlled run    : {int(res_win.result.unconverged_hours.sum())}")
     print(
         f"  Python callable H_ve, numpy, {n_cb:4d} variants  : {t_cb:8.3f} s  "
         f"{n_cb * HOURS / t_cb / 1e6:8.3f} M zone-h/s, unconverged zone-hours {int(res_cb.unconverged_hours.sum())}"

@@ -367,7 +367,7 @@ class FreeRunningYear:
 def simulate_free_running(params, *, temp_air, gains_internal, gains_solar, coefficients: FlowCoefficients,
                           free_area, secure_area, infiltration_flow, background_flow, allowed_day,
                           allowed_night, low_setpoint, night_low_setpoint, control_band=2.0,
-                          temp_m_initial=None, tolerance=0.01, engine="compiled") -> FreeRunningYear:
+                          temp_m_initial=None, tolerance=0.01, engine="compiled", threads=None) -> FreeRunningYear:
     """Hourly free-running temperatures with windows controlled as in :func:`window_opening_fraction`.
 
     Parameters
@@ -398,6 +398,8 @@ def simulate_free_running(params, *, temp_air, gains_internal, gains_solar, coef
         Fixed-point tolerance on the indoor air temperature in each hour [K].
     engine : {"compiled", "numpy"}
         Loop of :func:`calcs.thermal.simulate` (same numbers within ``tolerance``).
+    threads : int, optional
+        Threads of the compiled loop, as for :func:`calcs.thermal.simulate` (speed only).
 
     Returns
     -------
@@ -428,7 +430,7 @@ def simulate_free_running(params, *, temp_air, gains_internal, gains_solar, coef
                             float(control_band), base, background, np.broadcast_to(True, (t_len, n)),
                             np.broadcast_to(0.0, (t_len, n)))
     result = thermal.simulate(params, temp_air, gains_internal, gains_solar, law, temp_m_initial=temp_m_initial,
-                              tolerance=tolerance, engine=engine)
+                              tolerance=tolerance, engine=engine, threads=threads)
     flow = np.asarray(result.h_ve) / thermal.AIR_HEAT_CAPACITY
     windows = result.window_flow
     if windows is None:
@@ -453,7 +455,7 @@ def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, c
                              allowed_day, allowed_night, heating_setpoint, cooling_setpoint, heat_recovery=0.0,
                              low_setpoint=21.0, night_low_setpoint=19.0, control_band=2.0,
                              max_heating=np.inf, max_cooling=np.inf, tolerance=0.01,
-                             engine="compiled") -> OperatingYears:
+                             engine="compiled", threads=None) -> OperatingYears:
     """The two years the energy comparison needs, with the same weather, gains and model.
 
     Parameters
@@ -480,6 +482,8 @@ def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, c
         Plant capacity limits [W].
     engine : {"compiled", "numpy"}
         Loop of :func:`calcs.thermal.simulate` (same numbers within ``tolerance``).
+    threads : int, optional
+        Threads of the compiled loops, as for :func:`calcs.thermal.simulate` (speed only).
 
     Returns
     -------
@@ -509,7 +513,7 @@ def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, c
     baseline = thermal.simulate(params, temp_air, gains_internal, gains_solar,
                                 thermal.ventilation_heat_transfer(sealed_flow), heating_setpoint=heating_setpoint,
                                 cooling_setpoint=cooling_setpoint, occupied=occ, max_heating=max_heating,
-                                max_cooling=max_cooling, engine=engine)
+                                max_cooling=max_cooling, engine=engine, threads=threads)
     day = np.asarray(allowed_day, dtype=bool) & nv
     night = np.asarray(allowed_night, dtype=bool)
 
@@ -523,6 +527,6 @@ def simulate_operating_years(params, *, temp_air, gains_internal, gains_solar, c
     cooling = np.where(nv, NO_COOLING, cooling_setpoint)
     mixed = thermal.simulate(params, temp_air, gains_internal, gains_solar, h_ve, heating_setpoint=heating_setpoint,
                              cooling_setpoint=cooling, occupied=occ, max_heating=max_heating,
-                             max_cooling=max_cooling, tolerance=tolerance, engine=engine)
+                             max_cooling=max_cooling, tolerance=tolerance, engine=engine, threads=threads)
     mechanical = np.where(occ & ~nv, fresh, 0.0)
     return OperatingYears(baseline=baseline, mixed=mixed, mechanical_flow=mechanical)

@@ -40,6 +40,7 @@ reports it as ``gains_not_delivered``.
 from __future__ import annotations
 
 import math
+import os
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from types import MappingProxyType
@@ -53,6 +54,7 @@ __all__ = [
     "COEFF_AIR_SURFACE",
     "COEFF_SURFACE_MASS",
     "MASS_CLASSES",
+    "MIN_ZONES_PER_THREAD",
     "SURFACE_AREA_RATIO",
     "STEP_SECONDS",
     "TEST_POWER_DENSITY",
@@ -67,6 +69,7 @@ __all__ = [
     "simulate_loop_reference",
     "steady_state",
     "step_crank_nicolson",
+    "thread_count",
     "ventilation_heat_transfer",
     "zone_parameters",
 ]
@@ -1113,8 +1116,61 @@ def _march_callable(net, fn, te, tsup, gi, gs, sp_h, sp_c, unocc, max_h, max_c, 
     return tm, unconverged
 
 
+#: Fewest zones a thread of the compiled loops gets: below this a batch runs in one thread,
+#: as the start-up of a thread costs more than it saves.
+MIN_ZONES_PER_THREAD = 64
+
+
+def thread_count(threads: int | None = None) -> int:
+    """Threads the compiled loops may use: ``threads`` if given, else ``$FREERUN_THREADS``, else the CPUs.
+
+    The worker processes of a sweep set ``FREERUN_THREADS=1`` (the processes are the
+    parallelism there). Raises ProjectError for a value that is not a whole number ≥ 1.
+    """
+    from calcs.sweep import THREADS_ENV
+
+    where = "simulate: threads"
+    if threads is None:
+        text = os.environ.get(THREADS_ENV, "").strip()
+        if not text:
+            return os.cpu_count() or 1
+        where = f"environment {THREADS_ENV}"
+        try:
+            threads = int(text)
+        except ValueError:
+            threads = text  # reported below
+    if isinstance(threads, bool) or not isinstance(threads, int) or threads < 1:
+        msg = f"{where}={threads!r}: must be a whole number of threads, 1 or more"
+        raise ProjectError(msg)
+    return threads
+
+
+def _column_blocks(n: int, threads: int) -> list[tuple[int, int]]:
+    """Split zones 0..n into contiguous (j0, j1) blocks, one per thread, each ≥ MIN_ZONES_PER_THREAD."""
+    k = max(1, min(threads, n // MIN_ZONES_PER_THREAD))
+    edges = [round(i * n / k) for i in range(k + 1)]
+    return list(zip(edges[:-1], edges[1:]))
+
+
+def _in_column_blocks(kernel, before: tuple, after: tuple, n: int, threads: int) -> None:
+    """Run ``kernel(*before, j0, j1, *after)`` over the column blocks, in threads when there are several.
+
+    The compiled loops release the GIL and write disjoint columns, so the blocks run in parallel
+    and the result does not depend on the number of threads (each zone's arithmetic is the same).
+    """
+    blocks = _column_blocks(n, threads)
+    if len(blocks) == 1:
+        kernel(*before, 0, n, *after)
+        return
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(len(blocks)) as pool:
+        for f in [pool.submit(kernel, *before, j0, j1, *after) for j0, j1 in blocks]:
+            f.result()
+
+
 def _march_compiled(params, law, hv, te, tsup, gi, gs, sp_h, sp_c, occ, max_h, max_c, tm0, out, tolerance,
-                    max_iterations):
+                    max_iterations, threads):
     """Run the compiled loop of :mod:`calcs.kernels`; returns (θ_m final, unconverged hours, H_ve used)."""
     from . import kernels
 
@@ -1130,15 +1186,19 @@ def _march_compiled(params, law, hv, te, tsup, gi, gs, sp_h, sp_c, occ, max_h, m
     outputs = tuple(out[k] for k in ("temp_air_in", "temp_surface", "temp_mass", "temp_op", "heating_need",
                                      "cooling_need"))
     tm0 = np.asarray(tm0, dtype=float)
+    tm_end = np.empty(n)
     if hv is not None:
-        tm_end = kernels.march_fixed(hv, te, tsup, gi, gs, *setpoints, *zone, tm0, *outputs)
+        _in_column_blocks(kernels.march_fixed, (hv, te, tsup, gi, gs, *setpoints, *zone, tm0),
+                          (*outputs, tm_end), n, threads)
         return tm_end, np.zeros(n, dtype=np.int64), hv
     hv_out = np.empty(shape)
     out["window_flow"] = np.empty(shape)
     unconverged = np.zeros(n, dtype=np.int64)
     est0 = tm0.copy()  # first guess of θ_air in hour 0, as in the numpy loop
-    tm_end = kernels.march_windows(te, tsup, gi, gs, *setpoints, *zone, tm0, est0, *law.kernel_arguments(shape),
-                                   tolerance, max_iterations, *outputs, hv_out, out["window_flow"], unconverged)
+    _in_column_blocks(kernels.march_windows,
+                      (te, tsup, gi, gs, *setpoints, *zone, tm0, est0, *law.kernel_arguments(shape), tolerance,
+                       max_iterations),
+                      (*outputs, hv_out, out["window_flow"], unconverged, tm_end), n, threads)
     return tm_end, unconverged, hv_out
 
 
@@ -1161,6 +1221,7 @@ def simulate(
     max_iterations: int = 20,
     chunk_hours: int = 24,
     engine: str = "compiled",
+    threads: int | None = None,
 ) -> SimulationResult:
     """Hourly 5R1C simulation of n zones (ISO 13790:2008 Annex C).
 
@@ -1209,6 +1270,11 @@ def simulate(
         "numpy": the vectorised numpy loop (the reference the compiled loops
         are tested against; always used for a plain callable H_ve). Both give
         the same numbers to rounding (within ``tolerance`` for callable H_ve).
+    threads : int, optional
+        Threads of the compiled engine; default ``$FREERUN_THREADS`` or the
+        number of CPUs (see :func:`thread_count`). The zones are split into
+        column blocks of at least ``MIN_ZONES_PER_THREAD``; the numbers do
+        not depend on it (speed only).
 
     Returns
     -------
@@ -1310,6 +1376,7 @@ def simulate(
     if not (isinstance(chunk_hours, int) and chunk_hours >= 1):
         msg = f"simulate: chunk_hours must be an integer ≥ 1, got {chunk_hours!r}"
         raise ProjectError(msg)
+    threads = thread_count(threads)
 
     net = _Network(params)
 
@@ -1346,21 +1413,21 @@ def simulate(
                 max_heating=max_h, max_cooling=max_c,
                 occupied=pick(occ),
                 temp_m_initial=tm0, tolerance=tolerance, max_iterations=max_iterations,
-                chunk_hours=chunk_hours, engine=engine,
+                chunk_hours=chunk_hours, engine=engine, threads=threads,
             )
             tm0 = warm.temp_mass_final
     else:
         tm0 = np.array(np.broadcast_to(_zone_array(temp_m_initial, "temp_m_initial", "simulate"), (n,)))
 
     names = ("temp_air_in", "temp_surface", "temp_mass", "temp_op", "heating_need", "cooling_need")
-    out = {k: np.empty(shape) for k in names}
-    out["heating_need"][:] = 0.0
-    out["cooling_need"][:] = 0.0
     compiled = engine == "compiled" and (hv is not None or hasattr(h_ve, "kernel_arguments"))
+    # the compiled loops write every element (and first-touch the pages in their own threads);
+    # the numpy loops add heating and cooling into zeroed arrays
+    out = {k: (np.empty if compiled else np.zeros)(shape) for k in names}
     if compiled:
         tm_end, unconverged, h_ve_used = _march_compiled(
             params, h_ve, hv, te, tsup, gi, gs, sp_h, sp_c, occ, max_h, max_c, tm0, out, float(tolerance),
-            max_iterations)
+            max_iterations, threads)
     elif hv is None:
         out["h_ve"] = np.empty(shape)
         tm_end, unconverged = _march_callable(

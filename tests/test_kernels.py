@@ -150,3 +150,100 @@ def test_unknown_engine_is_refused():
     params, temp_air, occupied, gi, gs, area, rng = _batch(n=2)
     with pytest.raises(thermal.ProjectError, match="engine must be"):
         thermal.simulate(params, temp_air, gi, gs, 100.0, engine="fortran")
+
+
+# --- threads: the zones split into column blocks must give the same numbers, bit for bit ---
+
+_OUTPUT_NAMES = ("temp_air_in", "temp_surface", "temp_mass", "temp_op", "heating_need", "cooling_need", "h_ve",
+                 "temp_mass_final", "unconverged_hours")
+
+
+def _assert_identical(a, b):
+    for name in _OUTPUT_NAMES:
+        assert np.array_equal(np.asarray(getattr(a, name)), np.asarray(getattr(b, name))), name
+
+
+@pytest.mark.parametrize("threads", [2, 3, 7])
+def test_threaded_fixed_loop_is_bit_identical_to_one_thread(monkeypatch, threads):
+    monkeypatch.setattr(thermal, "MIN_ZONES_PER_THREAD", 2)  # split even this small batch
+    params, temp_air, occupied, gi, gs, area, rng = _batch(n=11, seed=4)
+    h_ve = 1200 * area * 3 * rng.uniform(0.1, 2.0, (T, 11)) / 3600
+    kw = dict(heating_setpoint=20.0, cooling_setpoint=25.0, occupied=occupied, max_cooling=20.0 * area)
+    one = thermal.simulate(params, temp_air, gi, gs, h_ve, threads=1, **kw)
+    many = thermal.simulate(params, temp_air, gi, gs, h_ve, threads=threads, **kw)
+    _assert_identical(one, many)
+    assert len(thermal._column_blocks(11, threads)) == min(threads, 5)
+
+
+def test_threaded_window_loop_is_bit_identical_to_one_thread(monkeypatch):
+    monkeypatch.setattr(thermal, "MIN_ZONES_PER_THREAD", 2)
+    params, temp_air, occupied, gi, gs, area, rng = _batch(n=9, seed=5)
+    n = area.size
+    coeff = _window_inputs(n, rng)
+    common = dict(temp_air=temp_air + 3, gains_internal=gi, gains_solar=gs, coefficients=coeff,
+                  free_area=area * 0.03, secure_area=area * 0.01, infiltration_flow=area * 3 * 0.3 / 3600,
+                  background_flow=np.zeros((T, n)), allowed_day=np.broadcast_to(occupied[:, None], (T, n)),
+                  allowed_night=np.broadcast_to(~occupied[:, None], (T, n)), low_setpoint=21.0,
+                  night_low_setpoint=18.0)
+    runs = []
+    for threads in ("1", "4"):
+        monkeypatch.setenv("FREERUN_THREADS", threads)
+        runs.append(operation.simulate_free_running(params, **common))
+    _assert_identical(runs[0].result, runs[1].result)
+    assert np.array_equal(runs[0].window_flow, runs[1].window_flow) and runs[0].window_flow.max() > 0
+
+
+def test_column_blocks_cover_every_zone_once():
+    for n in (1, 63, 64, 127, 128, 1000, 1001):
+        for threads in (1, 2, 3, 8):
+            blocks = thermal._column_blocks(n, threads)
+            assert blocks[0][0] == 0 and blocks[-1][1] == n
+            assert all(a[1] == b[0] for a, b in zip(blocks, blocks[1:]))
+            assert len(blocks) == 1 or min(j1 - j0 for j0, j1 in blocks) >= thermal.MIN_ZONES_PER_THREAD - 1
+            assert len(blocks) <= threads
+
+
+@pytest.mark.parametrize("value", ["0", "two", "-1", "1.5"])
+def test_a_bad_thread_count_in_the_environment_is_refused(monkeypatch, value):
+    monkeypatch.setenv("FREERUN_THREADS", value)
+    with pytest.raises(thermal.ProjectError, match="FREERUN_THREADS=.*whole number of threads"):
+        thermal.thread_count()
+
+
+@pytest.mark.parametrize("value", [0, 2.0, True, "3"])
+def test_a_bad_threads_argument_is_refused(value):
+    with pytest.raises(thermal.ProjectError, match="simulate: threads=.*whole number"):
+        thermal.thread_count(value)
+
+
+def test_thread_count_defaults(monkeypatch):
+    monkeypatch.delenv("FREERUN_THREADS", raising=False)
+    assert thermal.thread_count() >= 1
+    monkeypatch.setenv("FREERUN_THREADS", " 3 ")
+    assert thermal.thread_count() == 3 and thermal.thread_count(1) == 1
+
+
+def test_lane_blocks_give_each_zone_the_numbers_it_gets_alone():
+    """70 zones = two full blocks of LANES and a partial one; each column equals that zone run alone."""
+    from calcs import kernels
+
+    n = 2 * kernels.LANES + 6
+    rng = np.random.default_rng(21)
+    area = rng.uniform(50, 400, n)
+    h_op, h_w = area * rng.uniform(0.2, 0.6, n), area * rng.uniform(0.1, 0.5, n)
+    mass = [("light", "medium", "heavy", "very_heavy")[i % 4] for i in range(n)]
+    hours = np.arange(T)
+    temp_air = 14.0 + 9.0 * np.sin(2 * np.pi * (hours % 24 - 9) / 24)
+    occupied = ((hours % 24) >= 8) & ((hours % 24) < 18)
+    gi = np.where(occupied[:, None], 30.0, 3.0) * area * rng.uniform(0.6, 1.4, (T, n))
+    h_ve = 1200 * area * 3 * rng.uniform(0.1, 2.0, (T, n)) / 3600
+    kw = dict(heating_setpoint=20.0, cooling_setpoint=24.0, occupied=occupied, temp_m_initial=18.0, threads=1)
+    batch = thermal.simulate(thermal.zone_parameters(area, h_op, h_w, mass), temp_air, gi, 0.0, h_ve,
+                             max_cooling=25.0 * area, **kw)
+    for j in (0, kernels.LANES - 1, kernels.LANES, n - 1):
+        alone = thermal.simulate(thermal.zone_parameters(area[j:j + 1], h_op[j:j + 1], h_w[j:j + 1], [mass[j]]),
+                                 temp_air, gi[:, j:j + 1], 0.0, h_ve[:, j:j + 1], max_cooling=25.0 * area[j:j + 1],
+                                 **kw)
+        for name in ("temp_air_in", "temp_op", "heating_need", "cooling_need"):
+            assert np.array_equal(getattr(batch, name)[:, j], getattr(alone, name)[:, 0]), (j, name)
+    assert batch.cooling_need.max() > 0 and batch.heating_need.max() > 0
