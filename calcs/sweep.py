@@ -124,6 +124,19 @@ def _pool_context():
     return multiprocessing.get_context()
 
 
+def _stop_forkserver() -> None:
+    # A notebook kernel on shutdown signals its remaining child processes one after another,
+    # waiting between signals; the server process and multiprocessing's resource tracker ignore
+    # the first signals and would hold the end of the stage for about 2.6 s. multiprocessing has
+    # no public call to stop them; without the private ones they simply end with the kernel.
+    from multiprocessing import forkserver, resource_tracker
+
+    for helper in (getattr(forkserver, "_forkserver", None), getattr(resource_tracker, "_resource_tracker", None)):
+        stop = getattr(helper, "_stop", None)
+        if stop is not None:
+            stop()
+
+
 class LocalWorkers:
     """A local process pool, started before its work arrives (see :func:`start_workers`).
 
@@ -137,23 +150,43 @@ class LocalWorkers:
         check_jobs(jobs)
         self.jobs = jobs or os.cpu_count() or 1
         context = _pool_context()
+        self._forkserver = context.get_start_method() == "forkserver"
         if context.get_start_method() == "forkserver" and preload:
             context.set_forkserver_preload(list(preload))
         self._pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=context, initializer=_start_worker,
                                          initargs=(tuple(preload),))
-        self._warm = [self._pool.submit(_ready) for _ in range(self.jobs)]  # start every worker now
+        self._used = False
+        # start every worker now, from a thread: launching the first worker waits for the server
+        # process to import ``preload`` (about a second), which the caller need not wait for
+        self._starter = threading.Thread(target=self._start, name="freerun-workers-start", daemon=True)
+        self._starter.start()
+
+    def _start(self) -> None:
+        self._warm = [self._pool.submit(_ready) for _ in range(self.jobs)]
 
     def map(self, fn: Callable[[Any, Any], Any], chunks: Sequence[Any], context: Any = None) -> list[Any]:
         """``[fn(context, chunk) for chunk in chunks]`` on the pool's workers, in the order of ``chunks``."""
         import pickle
 
+        self._used = True
+        self._starter.join()
         token, blob = next(_TOKENS), pickle.dumps(context, protocol=pickle.HIGHEST_PROTOCOL)
         futures = [self._pool.submit(_call, fn, token, blob, chunk) for chunk in chunks]
         return [future.result() for future in futures]
 
     def close(self) -> None:
-        """Stop the workers (idempotent)."""
+        """Stop the workers (idempotent).
+
+        A pool that was never given work (the stage found its sweep in the store) is stopped
+        at once rather than waited for while its workers are still importing.
+        """
+        self._starter.join()
+        if not self._used:
+            for process in list((getattr(self._pool, "_processes", None) or {}).values()):
+                process.terminate()
         self._pool.shutdown(wait=True, cancel_futures=True)
+        if self._forkserver:
+            _stop_forkserver()
 
     def __enter__(self) -> LocalWorkers:
         return self

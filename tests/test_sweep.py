@@ -165,3 +165,39 @@ def test_tariff_rebuild_reprices_and_equals_a_fresh_build(demo_build, tmp_path):
     fresh = build(DEMO, tmp_path / "P01-tariff", pdf=False, overrides=override, fresh=True)
     for name in ("results.json", "monte_carlo.csv", "sensitivity.csv", "zones.csv"):
         assert (quick.folder / "energy" / name).read_bytes() == (fresh.folder / "energy" / name).read_bytes(), name
+
+
+def _double(context, chunk):
+    return context * chunk
+
+
+def _children():
+    import psutil
+
+    return [p for p in psutil.Process().children(recursive=True) if p.is_running() and p.status() != "zombie"]
+
+
+def test_pre_started_workers_run_the_map_and_leave_no_process_behind():
+    """Started from a thread (as in a notebook kernel, which has threads: the forkserver path)."""
+    import threading
+
+    holder = threading.Event()
+    threading.Thread(target=holder.wait, daemon=True).start()
+    try:
+        with sweep.LocalWorkers(2, preload=["calcs.batch"]) as workers:
+            assert workers.map(_double, [1, 2, 3], 10) == [10, 20, 30]
+            assert workers.map(_double, ["a"], 2) == ["aa"]  # a second map sends its own context
+        assert _children() == []  # a kernel's shutdown would otherwise wait for them
+        unused = sweep.LocalWorkers(2, preload=["calcs.batch"])
+        unused.close()  # a stage that found its sweep in the store never maps
+        unused.close()  # idempotent
+        assert _children() == []
+    finally:
+        holder.set()
+
+
+def test_start_workers_has_nothing_to_start_for_dask_or_one_job():
+    assert sweep.start_workers("local-cluster", None) is None
+    assert sweep.start_workers(None, 1) is None
+    with pytest.raises(ProjectError, match="--jobs"):
+        sweep.start_workers(None, 0)
