@@ -156,6 +156,19 @@ def open_stage(name: str, project_file: str | Path, build_dir: str | Path = "") 
     return Stage(name=name, project=project, project_file=project_path, build_dir=folder)
 
 
+def started_ahead(stage: str, build_dir: str | Path) -> bool:
+    """True when a build started this stage's kernel ahead and has not yet opened its gate.
+
+    Such a kernel will wait in :func:`open_stage`; a template may start slow preparations that
+    need no inputs first (the energy stage's worker pool), so they overlap the wait. False for a
+    template run on its own and for a stage whose upstream outputs were ready when it started.
+    """
+    if not build_dir:
+        return False
+    gates = Path(build_dir) / GATES_DIR
+    return gates.is_dir() and not (gates / stage).exists()
+
+
 def wait_for_gate(build_dir: str | Path, stage: str, poll: float = 0.01) -> None:
     """Wait until the build running this kernel lets the stage go on (no wait outside a build).
 

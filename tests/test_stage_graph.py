@@ -62,6 +62,17 @@ def test_a_template_run_on_its_own_does_not_wait(tmp_path):
     wait_for_gate(tmp_path, "loads")  # no .gates folder: returns at once
 
 
+def test_a_stage_knows_whether_it_was_started_ahead(tmp_path):
+    from calcs.stage import GATES_DIR, started_ahead
+
+    assert not started_ahead("energy", "")  # run on its own, default folder
+    assert not started_ahead("energy", tmp_path)  # no gates: not inside a build's stage run
+    (tmp_path / GATES_DIR).mkdir()
+    assert started_ahead("energy", tmp_path)  # gate not yet decided: the kernel will wait
+    (tmp_path / GATES_DIR / "energy").write_text("run", encoding="utf-8")
+    assert not started_ahead("energy", tmp_path)
+
+
 @pytest.mark.parametrize("word", ["run", "skip"])
 def test_open_stage_waits_at_its_gate_until_the_build_decides(tmp_path, word):
     import threading
