@@ -224,6 +224,9 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path, ou
         resources={"metadata": {"path": str(Path(build_dir).resolve())}},
         # the kernel would otherwise warn on stderr about its local TCP transport
         extra_arguments=["--IPKernelApp.log_level=ERROR"],
+        # every output is on disk once the last cell (``st.finish()``) has run; a graceful
+        # shutdown would add 0.7–1.3 s per stage of interpreter teardown to the build
+        shutdown_kernel="immediate",
         **extra,
     )
     return out
