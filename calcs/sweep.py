@@ -125,10 +125,11 @@ def _pool_context():
 
 
 def _stop_forkserver() -> None:
-    # A notebook kernel on shutdown signals its remaining child processes one after another,
-    # waiting between signals; the server process and multiprocessing's resource tracker ignore
-    # the first signals and would hold the end of the stage for about 2.6 s. multiprocessing has
-    # no public call to stop them; without the private ones they simply end with the kernel.
+    # A notebook kernel shut down gracefully (Jupyter, nbval; a build's kernels are killed at
+    # once) signals its remaining child processes one after another, waiting between signals;
+    # the server process and multiprocessing's resource tracker ignore the first signals and
+    # held the kernel's end for about 2.6 s. multiprocessing has no public call to stop them;
+    # without the private ones they simply end with the kernel.
     from multiprocessing import forkserver, resource_tracker
 
     for helper in (getattr(forkserver, "_forkserver", None), getattr(resource_tracker, "_resource_tracker", None)):
