@@ -270,6 +270,10 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
         os.replace(tmp, gates / stage)
         decided[stage] = word
 
+    def skip_undecided() -> None:
+        for stage in set(running.values()) - set(decided):
+            open_gate(stage, GATE_SKIP)  # kernels still waiting at their gates end
+
     def finished(stage: str, reused: bool) -> None:
         upstream[stage] = cache.folder_digest(work / stage)
         record[stage] = {"key": keys[stage], "reused": reused, "outputs_digest": upstream[stage]}
@@ -319,11 +323,9 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
                     finished(stage, reused=False)
                     say(f"{number(stage)} done in {seconds[stage]:.1f} s")
                 if failure is not None:
-                    for stage in set(running.values()) - set(decided):
-                        open_gate(stage, GATE_SKIP)
+                    skip_undecided()
         finally:
-            for stage in set(running.values()) - set(decided):
-                open_gate(stage, GATE_SKIP)  # kernels still waiting at their gates end
+            skip_undecided()
     shutil.rmtree(gates, ignore_errors=True)
     if failure is not None:
         raise failure
@@ -356,7 +358,7 @@ def _run_stage(stage: str, resolved: Path, work: Path, ahead: bool = False) -> N
     except BaseException:
         _keep_notebook(running, final)
         raise
-    os.replace(running, final)
+    _keep_notebook(running, final)
 
 
 def _keep_notebook(running: Path, final: Path) -> None:

@@ -152,7 +152,7 @@ class LocalWorkers:
         self.jobs = jobs or os.cpu_count() or 1
         context = _pool_context()
         self._forkserver = context.get_start_method() == "forkserver"
-        if context.get_start_method() == "forkserver" and preload:
+        if self._forkserver and preload:
             context.set_forkserver_preload(list(preload))
         self._pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=context, initializer=_start_worker,
                                          initargs=(tuple(preload),))
