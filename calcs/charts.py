@@ -63,11 +63,13 @@ class BackgroundCharts:
     records it in the executed notebook).
     """
 
-    def __init__(self) -> None:
+    def __init__(self, warm_up: bool = False) -> None:
         from concurrent.futures import ThreadPoolExecutor
 
         self._pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="charts")
         self._pending: list = []
+        if warm_up:
+            self._pool.submit(_warm_up)
 
     def show(self, chart: alt.TopLevelMixin, path, alt_text: str, scale: float = 2.0) -> None:
         """Render ``chart`` to ``path`` (PNG) in the background and show it under ``alt_text``."""
@@ -97,6 +99,22 @@ class BackgroundCharts:
             if handle is not None:
                 handle.update({"image/png": base64.b64encode(png).decode("ascii"), "text/plain": alt_text}, raw=True)
         return len(pending)
+
+
+def _warm_up() -> None:
+    """Render one tiny chart: vl-convert's first rendering starts its JavaScript engine.
+
+    That start costs about 0.5 s and holds the interpreter lock throughout (measured: the
+    calling kernel's main thread stood still for 0.55 s), where later renderings release it. A
+    stage opens its chart thread with this job before it waits at its build gate
+    (:func:`calcs.stage.open_stage`), so the start falls in the wait, not in the first chart cell.
+    """
+    import vl_convert
+
+    vl_convert.vegalite_to_png(_WARM_UP_SPEC, scale=1)
+
+
+_WARM_UP_SPEC = '{"data": {"values": [{"x": 1}]}, "mark": "point", "encoding": {"x": {"field": "x", "type": "quantitative"}}}'
 
 
 def day_hour_map(

@@ -89,19 +89,6 @@ def _hour(v, te, tsup, gi, gs, tm_prev, sp_h, sp_c, heat_on, cool_on, max_h, max
     return ta, ts, tm, top, tm_next, heat, cool
 
 
-@_jit
-def _store(state, t, j, out_ta, out_ts, out_tm, out_top, out_heat, out_cool):
-    """Write one zone-hour of :func:`_hour` into the outputs; return θ_m,t (the next hour's start)."""
-    ta, ts, tmm, top, tm_next, heat, cool = state
-    out_ta[t, j] = ta
-    out_ts[t, j] = ts
-    out_tm[t, j] = tmm
-    out_top[t, j] = top
-    out_heat[t, j] = heat
-    out_cool[t, j] = cool
-    return tm_next
-
-
 #: Zones computed together by :func:`march_fixed`: one hour of LANES zones is a loop of fixed
 #: length over contiguous buffers, which LLVM turns into SIMD instructions (8 lanes of float64
 #: with AVX-512, 4 with AVX2); the arithmetic per zone is that of :func:`_hour`, unchanged, so
@@ -115,27 +102,68 @@ _OTA, _OTS, _OTM, _OTOP, _OHEAT, _OCOOL, _OTN = range(7)
 _OUT_ROWS = 7
 
 
-@nb.njit(inline="always", error_model="numpy")  # inlined: a literal ``control`` folds the branch away
-def _lanes(x, o, control):
-    """One hour of LANES zones: :func:`_hour` lane by lane, ``x`` (_IN_ROWS·LANES) to ``o`` (_OUT_ROWS·LANES).
+@nb.njit(inline="always", error_model="numpy")  # inlined: literal ``control`` and ``lanes`` fold away
+def _lanes(x, o, control, lanes):
+    """One hour of ``lanes`` zones: :func:`_hour` lane by lane, ``x`` (rows × lanes) to ``o`` (_OUT_ROWS × lanes).
 
-    ``control`` False leaves out heating and cooling (two divisions fewer per zone-hour).
+    Row _V of ``x`` holds H_ve; rows _V.._MAXC are read. ``control`` False leaves out heating
+    and cooling (two divisions fewer per zone-hour).
     """
-    for k in range(LANES):
+    for k in range(lanes):
         ta, ts, tm, top, tm_next, heat, cool = _hour(
-            x[_V * LANES + k], x[_TE * LANES + k], x[_TSUP * LANES + k], x[_GI * LANES + k],
-            x[_GS * LANES + k], x[_TM * LANES + k], x[_SPH * LANES + k], x[_SPC * LANES + k],
-            control and x[_HON * LANES + k] != 0.0, control and x[_CON * LANES + k] != 0.0,
-            x[_MAXH * LANES + k], x[_MAXC * LANES + k], x[_HIS * LANES + k], x[_HW * LANES + k],
-            x[_HMS * LANES + k], x[_HEM * LANES + k], x[_CAP * LANES + k], x[_FM * LANES + k],
-            x[_FST * LANES + k])
-        o[_OTA * LANES + k] = ta
-        o[_OTS * LANES + k] = ts
-        o[_OTM * LANES + k] = tm
-        o[_OTOP * LANES + k] = top
-        o[_OHEAT * LANES + k] = heat
-        o[_OCOOL * LANES + k] = cool
-        o[_OTN * LANES + k] = tm_next
+            x[_V * lanes + k], x[_TE * lanes + k], x[_TSUP * lanes + k], x[_GI * lanes + k],
+            x[_GS * lanes + k], x[_TM * lanes + k], x[_SPH * lanes + k], x[_SPC * lanes + k],
+            control and x[_HON * lanes + k] != 0.0, control and x[_CON * lanes + k] != 0.0,
+            x[_MAXH * lanes + k], x[_MAXC * lanes + k], x[_HIS * lanes + k], x[_HW * lanes + k],
+            x[_HMS * lanes + k], x[_HEM * lanes + k], x[_CAP * lanes + k], x[_FM * lanes + k],
+            x[_FST * lanes + k])
+        o[_OTA * lanes + k] = ta
+        o[_OTS * lanes + k] = ts
+        o[_OTM * lanes + k] = tm
+        o[_OTOP * lanes + k] = top
+        o[_OHEAT * lanes + k] = heat
+        o[_OCOOL * lanes + k] = cool
+        o[_OTN * lanes + k] = tm_next
+
+
+@nb.njit(inline="always", error_model="numpy")
+def _load_zone(x, k, lanes, j, tm0, h_is, h_w, h_ms, h_em, cap, f_m, f_st, max_h, max_c):
+    """Lane k of a lane buffer: zone j's constants and its θ_m at the start."""
+    x[_TM * lanes + k] = tm0[j]
+    x[_HIS * lanes + k] = h_is[j]
+    x[_HW * lanes + k] = h_w[j]
+    x[_HMS * lanes + k] = h_ms[j]
+    x[_HEM * lanes + k] = h_em[j]
+    x[_CAP * lanes + k] = cap[j]
+    x[_FM * lanes + k] = f_m[j]
+    x[_FST * lanes + k] = f_st[j]
+    x[_MAXH * lanes + k] = max_h[j]
+    x[_MAXC * lanes + k] = max_c[j]
+
+
+@nb.njit(inline="always", error_model="numpy")
+def _load_hour(x, k, lanes, t, j, te, tsup, gi, gs, sp_h, sp_c, heat_on, cool_on, occ):
+    """Lane k of a lane buffer: zone j's inputs of hour t."""
+    on = occ[t, j]
+    x[_TE * lanes + k] = te[t, j]
+    x[_TSUP * lanes + k] = tsup[t, j]
+    x[_GI * lanes + k] = gi[t, j]
+    x[_GS * lanes + k] = gs[t, j]
+    x[_SPH * lanes + k] = sp_h[t, j]
+    x[_SPC * lanes + k] = sp_c[t, j]
+    x[_HON * lanes + k] = 1.0 if heat_on and on else 0.0
+    x[_CON * lanes + k] = 1.0 if cool_on and on else 0.0
+
+
+@nb.njit(inline="always", error_model="numpy")
+def _store_lane(o, k, lanes, t, j, out_ta, out_ts, out_tm, out_top, out_heat, out_cool):
+    """Lane k of a lane output into zone j, hour t of the outputs."""
+    out_ta[t, j] = o[_OTA * lanes + k]
+    out_ts[t, j] = o[_OTS * lanes + k]
+    out_tm[t, j] = o[_OTM * lanes + k]
+    out_top[t, j] = o[_OTOP * lanes + k]
+    out_heat[t, j] = o[_OHEAT * lanes + k]
+    out_cool[t, j] = o[_OCOOL * lanes + k]
 
 
 @_sig(nb.types.none, _RF2, _RF2, _RF2, _RF2, _RF2, _RF2, _RF2, _B, _B, _RB2, _RF1, _RF1,
@@ -161,45 +189,22 @@ def march_fixed(hv, te, tsup, gi, gs, sp_h, sp_c, heat_on, cool_on, occ, max_h, 
     for blk in range(n_blocks):
         x = buf[blk]
         for k in range(LANES):
-            j = min(j0 + blk * LANES + k, j1 - 1)
-            x[_TM * LANES + k] = tm0[j]
-            x[_HIS * LANES + k] = h_is[j]
-            x[_HW * LANES + k] = h_w[j]
-            x[_HMS * LANES + k] = h_ms[j]
-            x[_HEM * LANES + k] = h_em[j]
-            x[_CAP * LANES + k] = cap[j]
-            x[_FM * LANES + k] = f_m[j]
-            x[_FST * LANES + k] = f_st[j]
-            x[_MAXH * LANES + k] = max_h[j]
-            x[_MAXC * LANES + k] = max_c[j]
+            _load_zone(x, k, LANES, min(j0 + blk * LANES + k, j1 - 1), tm0, h_is, h_w, h_ms, h_em, cap, f_m, f_st,
+                       max_h, max_c)
     for t in range(t_len):
         for blk in range(n_blocks):
             x = buf[blk]
             first = j0 + blk * LANES
             for k in range(LANES):
                 j = min(first + k, j1 - 1)
-                on = occ[t, j]
                 x[_V * LANES + k] = hv[t, j]
-                x[_TE * LANES + k] = te[t, j]
-                x[_TSUP * LANES + k] = tsup[t, j]
-                x[_GI * LANES + k] = gi[t, j]
-                x[_GS * LANES + k] = gs[t, j]
-                x[_SPH * LANES + k] = sp_h[t, j]
-                x[_SPC * LANES + k] = sp_c[t, j]
-                x[_HON * LANES + k] = 1.0 if heat_on and on else 0.0
-                x[_CON * LANES + k] = 1.0 if cool_on and on else 0.0
+                _load_hour(x, k, LANES, t, j, te, tsup, gi, gs, sp_h, sp_c, heat_on, cool_on, occ)
             if heat_on or cool_on:
-                _lanes(x, res, True)
+                _lanes(x, res, True, LANES)
             else:
-                _lanes(x, res, False)
+                _lanes(x, res, False, LANES)
             for k in range(min(LANES, j1 - first)):
-                j = first + k
-                out_ta[t, j] = res[_OTA * LANES + k]
-                out_ts[t, j] = res[_OTS * LANES + k]
-                out_tm[t, j] = res[_OTM * LANES + k]
-                out_top[t, j] = res[_OTOP * LANES + k]
-                out_heat[t, j] = res[_OHEAT * LANES + k]
-                out_cool[t, j] = res[_OCOOL * LANES + k]
+                _store_lane(res, k, LANES, t, first + k, out_ta, out_ts, out_tm, out_top, out_heat, out_cool)
             for k in range(LANES):
                 x[_TM * LANES + k] = res[_OTN * LANES + k]
     for blk in range(n_blocks):
@@ -229,6 +234,87 @@ def _window_h_ve(x, t_out, wind, stack, ref_temp, free, secure, day, night, low_
     return _AIR_HEAT_CAPACITY * (base + max(floor, windows)), windows
 
 
+#: Zones iterated together by :func:`march_windows` (a block of the lane buffer, as for
+#: :func:`march_fixed`): every lane follows its own fixed-point iteration, a lane that has
+#: converged keeps its values while the others go on, and the block moves to the next hour when
+#: every lane is done. Fewer lanes than :data:`LANES`, so that one slow zone-hour holds up fewer
+#: converged ones.
+WINDOW_LANES = 16
+# rows of the window lane buffer after the first _IN_ROWS (whose row _V holds the H_ve in use):
+# window law of the hour, its zone constants, and the iteration state of each lane
+(_WIND, _DAY, _NIGHT, _FLOOR, _OPEN, _SEALED, _FIXED, _STACK, _FREE, _SECURE, _LOWD, _LOWN, _BASE,
+ _X, _LO, _HI, _RLO, _RHI, _DONE, _WIN) = range(_IN_ROWS, _IN_ROWS + 20)
+_WIN_ROWS = _IN_ROWS + 20
+
+
+@nb.njit(inline="always", error_model="numpy")
+def _window_lanes(x, t_out, ref_temp, band, lanes):
+    """H_ve and window flow of every lane at its air temperature in row _X, into rows _V and _WIN."""
+    for k in range(lanes):
+        v, win = _window_h_ve(x[_X * lanes + k], t_out, x[_WIND * lanes + k], x[_STACK * lanes + k], ref_temp,
+                              x[_FREE * lanes + k], x[_SECURE * lanes + k], x[_DAY * lanes + k] != 0.0,
+                              x[_NIGHT * lanes + k] != 0.0, x[_LOWD * lanes + k], x[_LOWN * lanes + k], band,
+                              x[_BASE * lanes + k], x[_FLOOR * lanes + k], x[_OPEN * lanes + k] != 0.0,
+                              x[_SEALED * lanes + k])
+        x[_V * lanes + k] = v
+        x[_WIN * lanes + k] = win
+
+
+@nb.njit(inline="always", error_model="numpy")
+def _iterate_lanes(x, o, it, tolerance, lanes):
+    """One step of the safeguarded fixed-point iteration in every lane not yet done; returns how many are done.
+
+    ``o`` holds F(x) (row _OTA) for H_ve(x) of row _V. A lane done keeps its x and its H_ve;
+    the rest is :func:`march_windows`' step, written with selects so that the lanes run together.
+    """
+    done_count = 0
+    for k in range(lanes):
+        xk = x[_X * lanes + k]
+        res = o[_OTA * lanes + k] - xk
+        active = x[_DONE * lanes + k] == 0.0
+        conv = x[_FIXED * lanes + k] != 0.0 or abs(res) <= tolerance
+        step = active and not conv
+        lo = xk if (step and res > 0) else x[_LO * lanes + k]
+        r_lo = res if (step and res > 0) else x[_RLO * lanes + k]
+        hi = xk if (step and res < 0) else x[_HI * lanes + k]
+        r_hi = res if (step and res < 0) else x[_RHI * lanes + k]
+        nxt = o[_OTA * lanes + k]
+        bracketed = abs(lo) < np.inf and abs(hi) < np.inf  # both finite
+        regula = lo - r_lo * (hi - lo) / (r_hi - r_lo)
+        nxt = regula if (bracketed and not (lo < nxt < hi)) else nxt
+        mid = 0.5 * (lo + hi)
+        nxt = mid if (bracketed and it % 4 == 3) else nxt
+        nxt = mid if (bracketed and not abs(nxt) < np.inf) else nxt
+        x[_LO * lanes + k] = lo
+        x[_RLO * lanes + k] = r_lo
+        x[_HI * lanes + k] = hi
+        x[_RHI * lanes + k] = r_hi
+        x[_X * lanes + k] = nxt if step else xk
+        done = not active or conv
+        x[_DONE * lanes + k] = 1.0 if done else 0.0
+        done_count += 1 if done else 0  # an integer sum: a floating-point one would not vectorise
+    return done_count
+
+
+@nb.njit(inline="always", error_model="numpy")
+def _window_hour(x, o, t_out, ref_temp, band, tolerance, max_iterations, control, lanes):
+    """Solve one hour of a block of lanes: ``o`` receives the hour (:func:`_lanes`), row _DONE which lanes converged."""
+    for k in range(lanes):
+        x[_LO * lanes + k] = -np.inf
+        x[_HI * lanes + k] = np.inf
+        x[_RLO * lanes + k] = 0.0
+        x[_RHI * lanes + k] = 0.0
+        x[_DONE * lanes + k] = 0.0
+    for it in range(max_iterations):
+        _window_lanes(x, t_out, ref_temp, band, lanes)
+        _lanes(x, o, control, lanes)
+        done = _iterate_lanes(x, o, it, tolerance, lanes)
+        if done == lanes:
+            break
+    # ``o`` now holds every lane's hour for the H_ve in row _V: that of the converged iterate, or
+    # of the last one for a lane that did not converge (as the zone-by-zone loop reports it)
+
+
 @_sig(nb.types.none, _RF2, _RF2, _RF2, _RF2, _RF2, _RF2, _B, _B, _RB2, _RF1, _RF1,
       *_ZONE, _RF1, _RF1,
       _RF1, _RF2, _RF1, _F, _RF1, _RF1, _RB2, _RB2, _RF1, _RF1, _F, _RF1, _RF2, _RB2, _RF2, _F, _I, _I, _I,
@@ -247,65 +333,64 @@ def march_windows(te, tsup, gi, gs, sp_h, sp_c, heat_on, cool_on, occ, max_h, ma
     ``tolerance`` keep the last iterate and are counted in ``unconverged`` (n,). ``out_win``
     receives the window flow at the reported air temperature [m³ s⁻¹]. Zones j0 ≤ j < j1 only,
     θ_m at the end into ``tm_end[j0:j1]``, as for :func:`march_fixed`.
+
+    The zones go in blocks of :data:`WINDOW_LANES`, each lane with its own iteration (see
+    :func:`_iterate_lanes`); a lane's numbers are those of the same zone iterated alone.
     """
+    lanes = WINDOW_LANES
     t_len = out_ta.shape[0]
-    tm = tm0.copy()
-    est = est0.copy()
+    n_blocks = (j1 - j0 + lanes - 1) // lanes
+    buf = np.empty((n_blocks, _WIN_ROWS * lanes))
+    res = np.empty(_OUT_ROWS * lanes)
+    for blk in range(n_blocks):
+        x = buf[blk]
+        for k in range(lanes):
+            j = min(j0 + blk * lanes + k, j1 - 1)
+            _load_zone(x, k, lanes, j, tm0, h_is, h_w, h_ms, h_em, cap, f_m, f_st, max_h, max_c)
+            x[_X * lanes + k] = est0[j]
+            x[_STACK * lanes + k] = stack[j]
+            x[_FREE * lanes + k] = free[j]
+            x[_SECURE * lanes + k] = secure[j]
+            x[_LOWD * lanes + k] = low_day[j]
+            x[_LOWN * lanes + k] = low_night[j]
+            x[_BASE * lanes + k] = base[j]
     for t in range(t_len):
-        for j in range(j0, j1):
-            on = occ[t, j]
-            h_on = heat_on and on
-            c_on = cool_on and on
-            args_te, args_ts, args_gi, args_gs = te[t, j], tsup[t, j], gi[t, j], gs[t, j]
-            x = est[j]
-            lo = -np.inf
-            hi = np.inf
-            r_lo = 0.0
-            r_hi = 0.0
-            v_used = 0.0
-            win = 0.0
-            done = False
-            # windows shut whatever the temperature: H_ve is fixed and one solve is exact
-            fixed = not open_ok[t, j] or not (day[t, j] or night[t, j])
-            for it in range(max_iterations):
-                v, win = _window_h_ve(x, t_out[t], wind[t, j], stack[j], ref_temp, free[j], secure[j], day[t, j],
-                                 night[t, j], low_day[j], low_night[j], band, base[j], floor[t, j], open_ok[t, j],
-                                 sealed[t, j])
-                fx = _hour(v, args_te, args_ts, args_gi, args_gs, tm[j], sp_h[t, j], sp_c[t, j], h_on, c_on,
-                           max_h[j], max_c[j], h_is[j], h_w[j], h_ms[j], h_em[j], cap[j], f_m[j], f_st[j])[0]
-                res = fx - x
-                v_used = v
-                if fixed or abs(res) <= tolerance:
-                    done = True
-                    break
-                if res > 0:
-                    lo = x
-                    r_lo = res
-                elif res < 0:
-                    hi = x
-                    r_hi = res
-                nxt = fx
-                if math.isfinite(lo) and math.isfinite(hi):
-                    if not (lo < nxt < hi):
-                        nxt = lo - r_lo * (hi - lo) / (r_hi - r_lo)
-                    if it % 4 == 3:
-                        nxt = 0.5 * (lo + hi)
-                    if not math.isfinite(nxt):
-                        nxt = 0.5 * (lo + hi)
-                x = nxt
-            if not done:
-                unconverged[j] += 1
-            state = _hour(v_used, args_te, args_ts, args_gi, args_gs, tm[j], sp_h[t, j], sp_c[t, j], h_on, c_on,
-                          max_h[j], max_c[j], h_is[j], h_w[j], h_ms[j], h_em[j], cap[j], f_m[j], f_st[j])
-            tm_next = _store(state, t, j, out_ta, out_ts, out_tm, out_top, out_heat, out_cool)
-            ta = state[0]
-            out_hv[t, j] = v_used
-            out_win[t, j] = _window_h_ve(ta, t_out[t], wind[t, j], stack[j], ref_temp, free[j], secure[j], day[t, j],
-                                         night[t, j], low_day[j], low_night[j], band, base[j], floor[t, j],
-                                         open_ok[t, j], sealed[t, j])[1]
-            tm[j] = tm_next
-            est[j] = ta
-    tm_end[j0:j1] = tm[j0:j1]
+        to = t_out[t]
+        for blk in range(n_blocks):
+            x = buf[blk]
+            first = j0 + blk * lanes
+            for k in range(lanes):
+                j = min(first + k, j1 - 1)
+                _load_hour(x, k, lanes, t, j, te, tsup, gi, gs, sp_h, sp_c, heat_on, cool_on, occ)
+                x[_WIND * lanes + k] = wind[t, j]
+                x[_DAY * lanes + k] = 1.0 if day[t, j] else 0.0
+                x[_NIGHT * lanes + k] = 1.0 if night[t, j] else 0.0
+                x[_FLOOR * lanes + k] = floor[t, j]
+                x[_OPEN * lanes + k] = 1.0 if open_ok[t, j] else 0.0
+                x[_SEALED * lanes + k] = sealed[t, j]
+                # windows shut whatever the temperature: H_ve is fixed and one solve is exact
+                x[_FIXED * lanes + k] = 1.0 if (not open_ok[t, j] or not (day[t, j] or night[t, j])) else 0.0
+            if heat_on or cool_on:
+                _window_hour(x, res, to, ref_temp, band, tolerance, max_iterations, True, lanes)
+            else:
+                _window_hour(x, res, to, ref_temp, band, tolerance, max_iterations, False, lanes)
+            for k in range(min(lanes, j1 - first)):
+                j = first + k
+                _store_lane(res, k, lanes, t, j, out_ta, out_ts, out_tm, out_top, out_heat, out_cool)
+                out_hv[t, j] = x[_V * lanes + k]
+                if x[_DONE * lanes + k] == 0.0:
+                    unconverged[j] += 1
+            # window flow at the reported air temperature; the next hour starts from it
+            for k in range(lanes):
+                x[_TM * lanes + k] = res[_OTN * lanes + k]
+                x[_X * lanes + k] = res[_OTA * lanes + k]
+            _window_lanes(x, to, ref_temp, band, lanes)
+            for k in range(min(lanes, j1 - first)):
+                out_win[t, first + k] = x[_WIN * lanes + k]
+    for blk in range(n_blocks):
+        first = j0 + blk * lanes
+        for k in range(min(lanes, j1 - first)):
+            tm_end[first + k] = buf[blk, _TM * lanes + k]
 
 
 @_sig(nb.types.none, _RB2, _RB2, _RB2, _RB1, _OB2)

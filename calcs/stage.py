@@ -152,8 +152,13 @@ def open_stage(name: str, project_file: str | Path, build_dir: str | Path = "") 
     project = load_project(project_path)
     folder = Path(build_dir).resolve() if build_dir else (project_path.parent.parent / "build" / "template-check")
     folder.mkdir(parents=True, exist_ok=True)
+    from .charts import BackgroundCharts
+
+    charts = BackgroundCharts(warm_up=True)  # the chart renderer starts while the stage waits at its gate
     wait_for_gate(folder, name)
-    return Stage(name=name, project=project, project_file=project_path, build_dir=folder)
+    stage = Stage(name=name, project=project, project_file=project_path, build_dir=folder)
+    stage._charts = charts
+    return stage
 
 
 def started_ahead(stage: str, build_dir: str | Path) -> bool:
