@@ -284,7 +284,7 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
         launched = stage in running.values()
         if not all(u in upstream for u in STAGE_UPSTREAM[stage]):
             if not launched:  # start its kernel ahead, at a lower priority; it waits at its gate
-                running[pool.submit(_run_stage, stage, resolved, work, True)] = stage
+                running[pool.submit(_run_stage, stage, resolved, work, True, fork_server())] = stage
             return
         keys[stage] = cache.stage_key(stage, data, defaults, weather_sha, upstream, code)
         started[stage] = time.perf_counter()
@@ -299,7 +299,21 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
         if not launched:
             running[pool.submit(_run_stage, stage, resolved, work)] = stage
 
-    with ThreadPoolExecutor(max_workers=len(STAGES)) as pool:
+    from . import kernel_forks
+
+    forks: list[Any] = []
+
+    def fork_server():
+        """The build's kernel fork server, started with the first kernel started ahead (None where off).
+
+        A kernel that can run at once starts the usual way: the server's imports would only delay it.
+        """
+        if not forks and kernel_forks.enabled():
+            forks.append(kernel_forks.ForkServer())
+            ends.callback(forks[0].close)  # after the pool has ended: every kernel has ended by then
+        return forks[0] if forks else None
+
+    with contextlib.ExitStack() as ends, ThreadPoolExecutor(max_workers=len(STAGES)) as pool:
         try:
             while True:
                 before = -1
@@ -332,7 +346,7 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
     return {stage: record[stage] for stage in STAGES}
 
 
-def _run_stage(stage: str, resolved: Path, work: Path, ahead: bool = False) -> None:
+def _run_stage(stage: str, resolved: Path, work: Path, ahead: bool = False, forks: Any = None) -> None:
     """Execute one stage notebook; a failed cell becomes one StageError line.
 
     The notebook is written as ``notebooks/.<stage>.running.ipynb`` and renamed to
@@ -345,7 +359,7 @@ def _run_stage(stage: str, resolved: Path, work: Path, ahead: bool = False) -> N
     running = work / "notebooks" / f".{stage}.running.ipynb"
     final = work / "notebooks" / f"{stage}.ipynb"
     try:
-        run_template(stage, resolved, work, out=running, low_priority=ahead)
+        run_template(stage, resolved, work, out=running, low_priority=ahead, forks=forks)
     except papermill.PapermillExecutionError as exc:
         if exc.ename == "StageSkipped":
             running.unlink(missing_ok=True)

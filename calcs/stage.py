@@ -206,18 +206,24 @@ def wait_for_gate(build_dir: str | Path, stage: str, poll: float = 0.01) -> None
 
 
 def run_template(stage: str, project_file: str | Path, build_dir: str | Path, out: str | Path | None = None,
-                 low_priority: bool = False) -> Path:
+                 low_priority: bool = False, forks: Any = None) -> Path:
     """Execute one stage template with papermill into ``out`` (default ``<build_dir>/notebooks/<stage>.ipynb``).
 
     ``low_priority``: run the kernel at a lower processor priority (:data:`LOW_PRIORITY`), for a
     kernel a build starts ahead of the stages it waits for, so its start-up and imports yield the
-    processor to the stages that are calculating.
+    processor to the stages that are calculating. ``forks``: a :class:`calcs.kernel_forks.ForkServer`
+    that makes the kernel process (a build's), instead of a new interpreter.
     """
     import papermill
 
     out = Path(out) if out else Path(build_dir) / "notebooks" / f"{stage}.ipynb"
     out.parent.mkdir(parents=True, exist_ok=True)
-    extra = {"kernel_manager_class": _low_priority_kernel_manager()} if low_priority else {}
+    if forks is not None:
+        from .kernel_forks import kernel_manager_class
+
+        extra = {"kernel_manager_class": kernel_manager_class(forks, LOW_PRIORITY if low_priority else 0)}
+    else:
+        extra = {"kernel_manager_class": _low_priority_kernel_manager()} if low_priority else {}
     papermill.execute_notebook(
         str(stage_template(stage)),
         str(out),

@@ -74,6 +74,21 @@ def test_cached_results_equal_a_fresh_build(project, root):
     assert (root / "P01" / "results.json").read_bytes() == (root / "c" / "results.json").read_bytes()
 
 
+def test_ordinary_kernels_give_the_same_build_as_forked_ones(project, root, monkeypatch):
+    """Builds fork the kernels of the stages they start ahead (calcs/kernel_forks.py); started
+    the usual way instead, every stage's outputs and the results are the same bytes."""
+    from calcs import kernel_forks
+
+    assert kernel_forks.enabled()  # the first build (fixture ``root``) forked its kernels
+    monkeypatch.setenv(kernel_forks.ENV, "0")
+    plain = _build(project, root / "plain", "--fresh")
+    assert _executed(plain) == list(STAGES)
+    first = json.loads((root / "P01" / "manifest.json").read_text(encoding="utf-8"))
+    assert {s: plain["stages"][s]["outputs_digest"] for s in STAGES} == {
+        s: first["stages"][s]["outputs_digest"] for s in STAGES}
+    assert (root / "plain" / "results.json").read_bytes() == (root / "P01" / "results.json").read_bytes()
+
+
 def test_a_corrupted_cache_entry_is_detected_and_rebuilt(project, root):
     design_key = json.loads((root / "P01" / "manifest.json").read_text(encoding="utf-8"))["stages"]["loads"]["key"]
     entries = [root / ".stage-cache" / "loads" / design_key]
