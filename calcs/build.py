@@ -177,7 +177,7 @@ def build(
         resolved = work / INPUTS / RESOLVED_FILE
         seconds: dict[str, float] = {}
         store = "" if fresh else str(target.parent / CACHE_DIR / "sweeps")
-        with _sweep_environment(scheduler, jobs, store):
+        with _sweep_environment(scheduler, jobs, store), _chart_renderer():
             stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
         results = merge_results(work)
         (work / RESULTS_FILE).write_text(dump_json(results), encoding="utf-8")
@@ -222,6 +222,24 @@ def _sweep_environment(scheduler: str | None, jobs: int | None, store: str):
                 os.environ.pop(k, None)
             else:
                 os.environ[k] = v
+
+
+@contextlib.contextmanager
+def _chart_renderer():
+    """One process renders the stage kernels' charts for this build (:mod:`calcs.chart_renderer`)."""
+    from .chart_renderer import ENV, ChartRenderer
+
+    renderer = ChartRenderer()
+    saved = os.environ.get(ENV)
+    os.environ[ENV] = renderer.address
+    try:
+        yield
+    finally:
+        if saved is None:
+            os.environ.pop(ENV, None)
+        else:
+            os.environ[ENV] = saved
+        renderer.close()
 
 
 def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, str], fresh: bool,

@@ -45,10 +45,10 @@ def style(chart: alt.TopLevelMixin, title: str, subtitle: str = "") -> alt.TopLe
 
 
 def render_png(chart: alt.TopLevelMixin, scale: float = 2.0) -> bytes:
-    """Render a chart to PNG bytes (offline)."""
-    import vl_convert
+    """Render a chart to PNG bytes (offline; by a build's chart renderer where there is one)."""
+    from .chart_renderer import render
 
-    return vl_convert.vegalite_to_png(chart.to_json(), scale=scale)
+    return render(chart.to_json(), scale=scale)
 
 
 class BackgroundCharts:
@@ -81,9 +81,9 @@ class BackgroundCharts:
         handle = display({"text/plain": f"{alt_text} (chart rendering)"}, raw=True, display_id=True)
 
         def job() -> bytes:
-            import vl_convert
+            from .chart_renderer import render
 
-            png = vl_convert.vegalite_to_png(spec, scale=scale)
+            png = render(spec, scale=scale)
             Path(path).write_bytes(png)
             return png
 
@@ -102,19 +102,23 @@ class BackgroundCharts:
 
 
 def _warm_up() -> None:
-    """Render one tiny chart: vl-convert's first rendering starts its JavaScript engine.
+    """Render one tiny chart: vl-convert's first rendering in a process starts its JavaScript engine.
 
-    That start costs about 0.5 s and holds the interpreter lock throughout (measured: the
+    That start costs about 0.6 s and holds the interpreter lock throughout (measured: the
     calling kernel's main thread stood still for 0.55 s), where later renderings release it. A
     stage opens its chart thread with this job before it waits at its build gate
-    (:func:`calcs.stage.open_stage`), so the start falls in the wait, not in the first chart cell.
+    (:func:`calcs.stage.open_stage`), so the start falls in the wait, not in the first chart
+    cell — unless a build's chart renderer draws the charts (:mod:`calcs.chart_renderer`).
     """
+    import os
+
+    from .chart_renderer import ENV, WARM_UP_SPEC
+
+    if os.environ.get(ENV):
+        return
     import vl_convert
 
-    vl_convert.vegalite_to_png(_WARM_UP_SPEC, scale=1)
-
-
-_WARM_UP_SPEC = '{"data": {"values": [{"x": 1}]}, "mark": "point", "encoding": {"x": {"field": "x", "type": "quantitative"}}}'
+    vl_convert.vegalite_to_png(WARM_UP_SPEC, scale=1)
 
 
 def day_hour_map(

@@ -1,0 +1,104 @@
+"""The build's chart renderer (calcs/chart_renderer.py) against vl-convert in the same process.
+
+Oracle: vl-convert itself (the renderer must give the very bytes vl-convert gives here for the
+same specification). The charts are built from constructed frames, not demo data.
+"""
+
+from __future__ import annotations
+
+import os
+import threading
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from calcs import chart_renderer, charts
+
+
+def _spec(points: int = 40, seed: int = 0) -> str:
+    rng = np.random.default_rng(seed)
+    frame = pd.DataFrame({"month": np.arange(1, 13), "mean_C": rng.uniform(0, 25, 12),
+                          "share": rng.uniform(0, 100, 12)})
+    chart = charts.monthly_bars(frame, "share", "Share [%]", highlight=50.0)
+    return charts.style(chart, f"A constructed chart ({points})", "subtitle").to_json()
+
+
+@pytest.fixture
+def renderer(monkeypatch):
+    r = chart_renderer.ChartRenderer()
+    monkeypatch.setenv(chart_renderer.ENV, r.address)
+    yield r
+    r.close()
+
+
+def test_the_renderer_gives_the_bytes_vl_convert_gives_here(renderer):
+    import vl_convert
+
+    spec = _spec()
+    assert chart_renderer.render(spec, 2.0) == vl_convert.vegalite_to_png(spec, scale=2.0)
+    assert chart_renderer._ask(renderer.address, spec, 1.0) == vl_convert.vegalite_to_png(spec, scale=1.0)
+
+
+def test_a_bad_specification_is_refused_and_the_renderer_goes_on(renderer):
+    with pytest.raises(chart_renderer.ChartError):
+        chart_renderer._ask(renderer.address, '{"mark": "no-such-mark", "data": {"values": []}}', 1.0)
+    assert chart_renderer._ask(renderer.address, _spec(), 1.0).startswith(b"\x89PNG")
+
+
+def test_many_kernels_at_once_each_get_their_own_chart(renderer):
+    import vl_convert
+
+    specs = [_spec(seed=s) for s in range(6)]
+    got: dict[int, bytes] = {}
+
+    def ask(i: int) -> None:
+        got[i] = chart_renderer._ask(renderer.address, specs[i], 1.0)
+
+    threads = [threading.Thread(target=ask, args=(i,)) for i in range(len(specs))]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    assert all(got[i] == vl_convert.vegalite_to_png(specs[i], scale=1.0) for i in range(len(specs)))
+
+
+def test_without_a_reachable_renderer_a_kernel_renders_on_its_own(tmp_path, monkeypatch):
+    import vl_convert
+
+    monkeypatch.setattr(chart_renderer, "CONNECT_WAIT", 0.1)
+    monkeypatch.setenv(chart_renderer.ENV, str(tmp_path / "nobody-listens.sock"))
+    spec = _spec()
+    assert chart_renderer.render(spec, 1.0) == vl_convert.vegalite_to_png(spec, scale=1.0)
+    monkeypatch.delenv(chart_renderer.ENV)
+    assert chart_renderer.render(spec, 1.0) == vl_convert.vegalite_to_png(spec, scale=1.0)
+
+
+def test_closing_ends_the_renderer_and_removes_its_socket():
+    r = chart_renderer.ChartRenderer()
+    chart_renderer._ask(r.address, _spec(), 1.0)
+    folder = Path(r.address).parent
+    r.close()
+    assert r._process.poll() is not None and not folder.exists()
+    r.close()  # idempotent
+
+
+def test_the_renderer_ends_with_its_build_process(tmp_path):
+    """A build that dies without closing it: the renderer sees the end of its input and goes."""
+    import subprocess
+    import sys
+    import time
+
+    code = ("import sys; sys.path.insert(0, %r); from calcs.chart_renderer import ChartRenderer; "
+            "r = ChartRenderer(); print(r._process.pid, r.address, flush=True); import os; os._exit(0)"
+            % str(Path(chart_renderer.__file__).resolve().parents[1]))
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60, check=True)
+    from calcs.kernel_forks import _alive
+
+    pid = int(out.stdout.split()[0])
+    deadline = time.monotonic() + 20
+    while time.monotonic() < deadline and _alive(pid):
+        time.sleep(0.05)
+    assert not _alive(pid)
+    assert not Path(out.stdout.split()[1]).parent.exists()  # and took its private folder with it
