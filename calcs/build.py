@@ -17,11 +17,13 @@ from __future__ import annotations
 
 import contextlib
 import datetime as dt
+import importlib
 import json
 import os
 import re
 import shutil
 import sys
+import threading
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -177,7 +179,10 @@ def build(
         resolved = work / INPUTS / RESOLVED_FILE
         seconds: dict[str, float] = {}
         store = "" if fresh else str(target.parent / CACHE_DIR / "sweeps")
-        with _sweep_environment(scheduler, jobs, store), _chart_renderer():
+        if pdf:  # WeasyPrint's import (≈ 0.8 s) overlaps with the stages instead of delaying the PDF
+            threading.Thread(target=_import_quietly, args=("weasyprint",), name="freerun-pdf-import",
+                             daemon=True).start()
+        with _sweep_environment(scheduler, jobs, store):
             stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
         results = merge_results(work)
         (work / RESULTS_FILE).write_text(dump_json(results), encoding="utf-8")
@@ -224,22 +229,31 @@ def _sweep_environment(scheduler: str | None, jobs: int | None, store: str):
                 os.environ[k] = v
 
 
-@contextlib.contextmanager
-def _chart_renderer():
-    """One process renders the stage kernels' charts for this build (:mod:`calcs.chart_renderer`)."""
+def _import_quietly(module: str) -> None:
+    """Import ``module`` ahead of its use; a failure is left for the real use to report."""
+    try:
+        importlib.import_module(module)
+    except Exception:  # noqa: BLE001, S110 - reported where the module is used
+        pass
+
+
+def _start_chart_renderer(ends: contextlib.ExitStack) -> None:
+    """Start the process that renders this build's charts (:mod:`calcs.chart_renderer`) and tell
+    the kernels started from now on where it is; ``ends`` ends it and restores the environment."""
     from .chart_renderer import ENV, ChartRenderer
 
     renderer = ChartRenderer()
     saved = os.environ.get(ENV)
     os.environ[ENV] = renderer.address
-    try:
-        yield
-    finally:
+
+    def end() -> None:
         if saved is None:
             os.environ.pop(ENV, None)
         else:
             os.environ[ENV] = saved
         renderer.close()
+
+    ends.callback(end)
 
 
 def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, str], fresh: bool,
@@ -297,12 +311,18 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
         record[stage] = {"key": keys[stage], "reused": reused, "outputs_digest": upstream[stage]}
         seconds[stage] = time.perf_counter() - started[stage]
 
+    def launch(stage: str, ahead: bool) -> None:
+        if not renderer:  # the build's first kernel: the chart renderer starts first (none when all is reused)
+            _start_chart_renderer(ends)
+            renderer.append(True)
+        running[pool.submit(_run_stage, stage, resolved, work, ahead, fork_server() if ahead else None)] = stage
+
     def step(stage: str) -> None:
         """Take one stage as far as the finished upstream stages allow."""
         launched = stage in running.values()
         if not all(u in upstream for u in STAGE_UPSTREAM[stage]):
             if not launched:  # start its kernel ahead, at a lower priority; it waits at its gate
-                running[pool.submit(_run_stage, stage, resolved, work, True, fork_server())] = stage
+                launch(stage, ahead=True)
             return
         keys[stage] = cache.stage_key(stage, data, defaults, weather_sha, upstream, code)
         started[stage] = time.perf_counter()
@@ -315,11 +335,12 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
         say(f"{number(stage)} ...")
         open_gate(stage, GATE_RUN)
         if not launched:
-            running[pool.submit(_run_stage, stage, resolved, work)] = stage
+            launch(stage, ahead=False)
 
     from . import kernel_forks
 
     forks: list[Any] = []
+    renderer: list[bool] = []
 
     def fork_server():
         """The build's kernel fork server, started with the first kernel started ahead (None where off).

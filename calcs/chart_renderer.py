@@ -59,12 +59,10 @@ class ChartRenderer:
         """End the renderer (idempotent) and remove its socket."""
         try:
             if self._process.stdin is not None and not self._process.stdin.closed:
-                self._process.stdin.close()  # the renderer ends at the end of its input
-            try:
-                self._process.wait(timeout=5)
-            except subprocess.TimeoutExpired:
-                self._process.kill()
-                self._process.wait()
+                self._process.stdin.close()
+            if self._process.poll() is None:
+                self._process.terminate()  # at once, even while its engine is still starting
+            self._process.wait()
         finally:
             shutil.rmtree(self._folder, ignore_errors=True)
 

@@ -18,8 +18,8 @@ energy stage's worker processes), never the server or the other kernels. The ser
 children itself and ends when the build closes the connection to it (:meth:`ForkServer.close`)
 or the build process is gone.
 
-Where the system has no ``fork`` (Windows) or ``FREERUN_FORK_KERNELS=0`` is set, builds start
-kernels the usual way (:func:`enabled`); the numbers are the same either way (tested).
+Except on Linux, or where ``FREERUN_FORK_KERNELS=0`` is set, builds start kernels the usual way
+(:func:`enabled`); the numbers are the same either way (tested).
 
 Run as ``python -m calcs.kernel_forks FD`` by :class:`ForkServer` only.
 """
@@ -49,8 +49,12 @@ ENV = "FREERUN_FORK_KERNELS"
 
 
 def enabled() -> bool:
-    """Whether builds fork their stage kernels (POSIX ``fork`` present and not switched off by :data:`ENV`)."""
-    return hasattr(os, "fork") and os.environ.get(ENV, "1").strip() != "0"
+    """Whether builds fork their stage kernels: on Linux, unless switched off by :data:`ENV`.
+
+    Only Linux: macOS has ``fork`` but its system libraries are not safe to use in a forked
+    child (why Python's own process pools spawn there).
+    """
+    return sys.platform.startswith("linux") and hasattr(os, "fork") and os.environ.get(ENV, "1").strip() != "0"
 
 
 class ForkServer:

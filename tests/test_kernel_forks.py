@@ -20,7 +20,8 @@ import pytest
 
 from calcs import kernel_forks
 
-pytestmark = pytest.mark.skipif(not hasattr(os, "fork"), reason="no fork on this system")
+pytestmark = pytest.mark.skipif(not kernel_forks.enabled() and os.environ.get(kernel_forks.ENV) != "0",
+                                reason="builds fork kernels on Linux only")
 
 PROBE = """
 import json, os, sys
