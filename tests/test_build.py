@@ -199,11 +199,35 @@ def test_check_run_records_overrides(public_builds):
 # ------------------------------------------------------------------ a failing stage
 
 
+def _build_helpers(since: float) -> list[str]:
+    """Processes a build started that are still running: the kernel fork server, kernels forked
+    from it (a fork keeps the server's command line) and the chart renderer."""
+    import time
+
+    import psutil
+
+    deadline = time.monotonic() + 10  # papermill's kill and the helpers' own exit take a moment
+    while True:
+        left = []
+        for proc in psutil.process_iter(["cmdline", "create_time", "status"]):
+            line = " ".join(proc.info["cmdline"] or [])
+            if (("calcs.kernel_forks" in line or "calcs.chart_renderer" in line) and proc.info["create_time"] >= since
+                    and proc.info["status"] != psutil.STATUS_ZOMBIE):
+                left.append(line)
+        if not left or time.monotonic() > deadline:
+            return left
+        time.sleep(0.1)
+
+
 def test_failing_stage_keeps_previous_report(make_project, tmp_path, capsys, monkeypatch):
+    import time
+
+    since = time.time() - 1
     folder = make_project()
     out = tmp_path / "build" / "P01"
     code, _, err = _build([str(folder), "--out", str(out)], capsys)
     assert code == 0, err
+    assert _build_helpers(since) == []  # forked kernels, their server and the chart renderer have all ended
     before = {p.name: p.read_bytes() for p in (out / "report.html", out / "results.json")}
 
     broken = tmp_path / "templates"
@@ -224,6 +248,7 @@ def test_failing_stage_keeps_previous_report(make_project, tmp_path, capsys, mon
     assert "deliberate failure" in failed.read_text(encoding="utf-8")
     leftovers = [p.name for p in (tmp_path / "build").iterdir() if p.name.startswith(".") and p.name != ".stage-cache"]
     assert leftovers == []  # no partial build folder is left behind (the stage cache is meant to stay)
+    assert _build_helpers(since) == []  # also when a stage failed and the kernels at their gates were sent home
 
 
 def test_default_output_folder(make_project, tmp_path, capsys, monkeypatch):
