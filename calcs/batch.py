@@ -417,11 +417,12 @@ class StageInputs:
     openings: pd.DataFrame
 
 
-def _simulate(inputs: StageInputs, variants: Sequence[Mapping[str, Any]]):
+def _simulate(inputs: StageInputs, variants: Sequence[Mapping[str, Any]], b: Batch | None = None):
     """Batch, free-running year, changeover and operating years of ``variants``: (batch, modes, years)."""
     ch, project = inputs.climate_hourly, inputs.project
     temp_air = ch["temp_air"].to_numpy()
-    b = build_batch(project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, variants)
+    if b is None:
+        b = build_batch(project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, variants)
     free = free_running(b, project, temp_air)
     modes = changeover(b, project, ch, free.result.temp_op)
     return b, modes, operating_years(b, project, temp_air, modes)
@@ -433,6 +434,74 @@ def run_variants(inputs: StageInputs, variants: Sequence[Mapping[str, Any]] = ({
     b, modes, years = _simulate(inputs, variants)
     acc = energy_accounts(b, inputs.project, ch.index, ch["temp_air"].to_numpy(), years, modes)
     return b, modes, years, acc
+
+
+def design_run(inputs: StageInputs, store=None):
+    """:func:`run_variants` of the design case alone, its simulated years kept in ``store``.
+
+    ``store`` (a :class:`calcs.sweep.SweepStore`, optional) keeps the changeover modes and the
+    two operating years under the design case's :func:`sweep_key`, so that a rebuild after a
+    change of prices or carbon factors prices the stored years instead of simulating them again
+    (and need not load the compiled loops). The arrays come back with the same values, shapes
+    and memory layout, so every figure computed from them is the same to the last bit.
+    Returns (batch, nv modes, operating years, accounts), as :func:`run_variants`.
+    """
+    ch, project = inputs.climate_hourly, inputs.project
+    b = build_batch(project, ch, inputs.gains_hourly, inputs.loads, inputs.openings, [{}])
+    key = sweep_key(inputs, [{}]) + "-design" if store is not None else None
+    kept = _stored_years(store, key, b.areas.size) if store is not None else None
+    if kept is None:
+        _, modes, years = _simulate(inputs, [{}], b)
+        if store is not None:
+            hours, zones = _year_tables(modes, years)
+            store.put(key + "-hours", hours)
+            store.put(key + "-zones", zones)
+    else:
+        modes, years = kept
+    acc = energy_accounts(b, project, ch.index, ch["temp_air"].to_numpy(), years, modes)
+    return b, modes, years, acc
+
+
+_HOURLY_FIELDS = ("temp_air_in", "temp_surface", "temp_mass", "temp_op", "heating_need", "cooling_need", "h_ve",
+                  "window_flow")
+_ZONE_FIELDS = ("temp_mass_initial", "temp_mass_final", "unconverged_hours")
+
+
+def _year_tables(modes: np.ndarray, years: operation.OperatingYears) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """The modes and operating years as two tables: one column per array and zone (hours), per array (zones)."""
+    n = modes.shape[1]
+    hours: dict[str, np.ndarray] = {}
+    for name, array in (("nv_mode", modes), ("mechanical_flow", years.mechanical_flow)):
+        hours.update({f"{name}.{j}": array[:, j] for j in range(n)})
+    zones: dict[str, np.ndarray] = {}
+    for scheme in _SCHEMES:
+        result = getattr(years, scheme)
+        for name in _HOURLY_FIELDS:
+            array = getattr(result, name)
+            if array is not None:
+                hours.update({f"{scheme}.{name}.{j}": array[:, j] for j in range(n)})
+        zones.update({f"{scheme}.{name}": getattr(result, name) for name in _ZONE_FIELDS})
+    return pd.DataFrame(hours), pd.DataFrame(zones)
+
+
+def _stored_years(store, key: str, n: int):
+    """(modes, operating years) from ``store`` (see :func:`design_run`), or None when not kept or damaged."""
+    hours, zones = store.fetch(key + "-hours"), store.fetch(key + "-zones")
+    if hours is None or zones is None:
+        return None
+
+    def stacked(prefix: str) -> np.ndarray:  # (T, n), C order, as the simulation returns them
+        return np.ascontiguousarray(np.column_stack([hours[f"{prefix}.{j}"].to_numpy() for j in range(n)]))
+
+    results = {}
+    for scheme in _SCHEMES:
+        fields: dict[str, Any] = {name: stacked(f"{scheme}.{name}") if f"{scheme}.{name}.0" in hours else None
+                                  for name in _HOURLY_FIELDS}
+        fields.update({name: zones[f"{scheme}.{name}"].to_numpy().copy() for name in _ZONE_FIELDS})
+        results[scheme] = thermal.SimulationResult(**fields)
+    years = operation.OperatingYears(baseline=results["baseline"], mixed=results["mixed"],
+                                     mechanical_flow=stacked("mechanical_flow"))
+    return stacked("nv_mode"), years
 
 
 #: Columns of :func:`variant_totals`, one row per variant (whole building).

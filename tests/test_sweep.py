@@ -12,6 +12,7 @@ import json
 import os
 import shutil
 
+import numpy as np
 import pytest
 from pandas.testing import assert_frame_equal
 
@@ -153,6 +154,34 @@ def test_store_reprices_a_tariff_change_and_recomputes_a_damaged_entry(demo_buil
     again = batch.sweep_totals(inputs, VARIANTS, jobs=1, store=store)
     assert store.reused == 1  # not reused this time
     assert_frame_equal(again, first, check_exact=True)
+
+
+def test_design_years_from_the_store_are_the_simulated_ones_to_the_last_bit(demo_build, tmp_path):
+    """A tariff rebuild prices the design case's stored years instead of simulating them
+    (batch.design_run); everything computed from them must be what the simulation gives."""
+    inputs = _inputs(demo_build)
+    b0, modes0, years0, acc0 = batch.run_variants(inputs, [{}])
+    store = sweep.SweepStore(tmp_path / "sweeps")
+    runs = [batch.design_run(inputs, store), batch.design_run(inputs, store)]
+    assert store.reused == 2  # the second run read both tables of the first
+    for b, modes, years, acc in runs:
+        assert np.array_equal(modes, modes0)
+        assert np.array_equal(years.mechanical_flow, years0.mechanical_flow)
+        for scheme in ("baseline", "mixed"):
+            for name in batch._HOURLY_FIELDS + batch._ZONE_FIELDS:
+                got, want = getattr(getattr(years, scheme), name), getattr(getattr(years0, scheme), name)
+                assert (got is None) == (want is None), (scheme, name)
+                if want is not None:  # same values, dtype and layout (sums run in the same order)
+                    assert np.array_equal(got, want) and got.dtype == want.dtype, (scheme, name)
+                    assert got.flags["C_CONTIGUOUS"] == want.flags["C_CONTIGUOUS"], (scheme, name)
+        assert_frame_equal(batch.variant_totals(b, modes, acc), batch.variant_totals(b0, modes0, acc0),
+                           check_exact=True)
+    # a damaged entry is recomputed, not read
+    entry = next((tmp_path / "sweeps").glob("*-design-hours.parquet"))
+    entry.write_bytes(entry.read_bytes()[:-10] + b"0123456789")
+    again = batch.design_run(inputs, store)
+    assert store.reused == 3  # the zones table was still good; the hours table was not
+    assert np.array_equal(again[2].mixed.temp_op, years0.mixed.temp_op)
 
 
 def test_tariff_rebuild_reprices_and_equals_a_fresh_build(demo_build, tmp_path):
