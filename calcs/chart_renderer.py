@@ -8,7 +8,8 @@ build therefore starts one **renderer** (:class:`ChartRenderer`) before its kern
 the engine once and renders the charts that the kernels send it, over a Unix socket whose path
 the kernels find in the environment (:data:`ENV`). A template run on its own (Jupyter, nbval)
 has no renderer and renders in its own process, as does a kernel that cannot reach the renderer;
-the PNG bytes are the same either way (vl-convert, same version, same specification).
+the PNG bytes are the same either way (vl-convert, same version, same specification, then
+:func:`opaque_png`).
 
 Protocol, one connection per chart: the kernel sends the scale (8-byte float) and the
 specification's length (4 bytes) and UTF-8 text; the renderer answers ``0`` + length + PNG, or
@@ -84,9 +85,37 @@ def render(spec: str, scale: float = 2.0) -> bytes:
             return _ask(address, spec, scale)
         except OSError:
             pass  # no renderer to reach (it ended, or never started): render here
+    return _png(spec, scale)
+
+
+def _png(spec: str, scale: float) -> bytes:
+    """vl-convert's PNG of ``spec`` without its alpha channel (see :func:`opaque_png`)."""
     import vl_convert
 
-    return vl_convert.vegalite_to_png(spec, scale=scale)
+    return opaque_png(vl_convert.vegalite_to_png(spec, scale=scale))
+
+
+def opaque_png(png: bytes) -> bytes:
+    """The PNG laid on white and stored as RGB.
+
+    vl-convert writes RGBA even for a chart on a white background; WeasyPrint then splits
+    every image into colour and a separate alpha mask and compresses both again, which was 40 %
+    of writing report.pdf (measured: 3.4–3.6 s with the RGBA charts, 1.9–2.0 s with RGB ones,
+    same layout). A pixel that is opaque keeps its colour exactly.
+    """
+    import io
+
+    from PIL import Image
+
+    image = Image.open(io.BytesIO(png))
+    if image.mode == "RGB":
+        return png
+    image = image.convert("RGBA")
+    flat = Image.new("RGBA", image.size, (255, 255, 255, 255))
+    flat.alpha_composite(image)
+    out = io.BytesIO()
+    flat.convert("RGB").save(out, format="PNG")
+    return out.getvalue()
 
 
 def _ask(address: str, spec: str, scale: float) -> bytes:
@@ -127,8 +156,6 @@ def _read(conn: socket.socket, n: int) -> bytes:
 
 
 def _handle(conn: socket.socket) -> None:
-    import vl_convert
-
     with conn:
         try:
             scale, length = _HEAD.unpack(_read(conn, _HEAD.size))
@@ -136,7 +163,7 @@ def _handle(conn: socket.socket) -> None:
         except (OSError, UnicodeDecodeError):
             return
         try:
-            status, payload = 0, vl_convert.vegalite_to_png(spec, scale=scale)
+            status, payload = 0, _png(spec, scale)
         except Exception as exc:  # noqa: BLE001 - sent back to the kernel, which raises it
             status, payload = 1, f"{type(exc).__name__}: {exc}".encode()
         try:

@@ -1,7 +1,10 @@
 """The build's chart renderer (calcs/chart_renderer.py) against vl-convert in the same process.
 
-Oracle: vl-convert itself (the renderer must give the very bytes vl-convert gives here for the
-same specification). The charts are built from constructed frames, not demo data.
+Oracle: vl-convert itself, decoded by Pillow: the renderer's PNG must hold exactly the pixels of
+vl-convert's rendering of the same specification in the test process (stored as RGB: our charts
+are drawn on white, every pixel opaque), and the "over white" compositing of partly transparent
+pixels follows the usual formula c·α + 255·(1 − α). The charts are built from constructed frames,
+not demo data.
 """
 
 from __future__ import annotations
@@ -25,6 +28,28 @@ def _spec(points: int = 40, seed: int = 0) -> str:
     return charts.style(chart, f"A constructed chart ({points})", "subtitle").to_json()
 
 
+def _pixels(png: bytes) -> np.ndarray:
+    import io
+
+    from PIL import Image
+
+    return np.asarray(Image.open(io.BytesIO(png)))
+
+
+def _oracle(spec: str, scale: float) -> np.ndarray:
+    """vl-convert's own rendering here, as RGB pixels (after checking that all are opaque)."""
+    import vl_convert
+
+    rgba = _pixels(vl_convert.vegalite_to_png(spec, scale=scale))
+    assert rgba.shape[2] == 4 and (rgba[..., 3] == 255).all()  # a chart on white: nothing see-through
+    return rgba[..., :3]
+
+
+def _same(png: bytes, spec: str, scale: float) -> bool:
+    got = _pixels(png)
+    return got.ndim == 3 and got.shape[2] == 3 and np.array_equal(got, _oracle(spec, scale))
+
+
 @pytest.fixture
 def renderer(monkeypatch):
     r = chart_renderer.ChartRenderer()
@@ -33,12 +58,28 @@ def renderer(monkeypatch):
     r.close()
 
 
-def test_the_renderer_gives_the_bytes_vl_convert_gives_here(renderer):
-    import vl_convert
-
+def test_the_renderer_gives_the_pixels_vl_convert_gives_here(renderer, monkeypatch):
     spec = _spec()
-    assert chart_renderer.render(spec, 2.0) == vl_convert.vegalite_to_png(spec, scale=2.0)
-    assert chart_renderer._ask(renderer.address, spec, 1.0) == vl_convert.vegalite_to_png(spec, scale=1.0)
+    by_renderer = chart_renderer.render(spec, 2.0)
+    assert _same(by_renderer, spec, 2.0)
+    assert _same(chart_renderer._ask(renderer.address, spec, 1.0), spec, 1.0)
+    monkeypatch.delenv(chart_renderer.ENV)
+    assert chart_renderer.render(spec, 2.0) == by_renderer  # rendered here: the same bytes
+
+
+def test_partly_transparent_pixels_are_laid_on_white():
+    import io
+
+    from PIL import Image
+
+    colour = np.array([[[200, 40, 10, 0], [200, 40, 10, 255], [200, 40, 10, 128], [0, 0, 0, 51]]], dtype=np.uint8)
+    buffer = io.BytesIO()
+    Image.fromarray(colour, "RGBA").save(buffer, format="PNG")
+    flat = _pixels(chart_renderer.opaque_png(buffer.getvalue())).astype(float)
+    alpha = colour[..., 3:4] / 255.0
+    expected = colour[..., :3] * alpha + 255.0 * (1 - alpha)
+    assert flat.shape == (1, 4, 3) and np.abs(flat - expected).max() <= 1.0  # 8-bit rounding
+    assert flat[0, 0].tolist() == [255, 255, 255] and flat[0, 1].tolist() == [200, 40, 10]
 
 
 def test_a_bad_specification_is_refused_and_the_renderer_goes_on(renderer):
@@ -48,8 +89,6 @@ def test_a_bad_specification_is_refused_and_the_renderer_goes_on(renderer):
 
 
 def test_many_kernels_at_once_each_get_their_own_chart(renderer):
-    import vl_convert
-
     specs = [_spec(seed=s) for s in range(6)]
     got: dict[int, bytes] = {}
 
@@ -61,18 +100,16 @@ def test_many_kernels_at_once_each_get_their_own_chart(renderer):
         t.start()
     for t in threads:
         t.join()
-    assert all(got[i] == vl_convert.vegalite_to_png(specs[i], scale=1.0) for i in range(len(specs)))
+    assert all(_same(got[i], specs[i], 1.0) for i in range(len(specs)))
 
 
 def test_without_a_reachable_renderer_a_kernel_renders_on_its_own(tmp_path, monkeypatch):
-    import vl_convert
-
     monkeypatch.setattr(chart_renderer, "CONNECT_WAIT", 0.1)
     monkeypatch.setenv(chart_renderer.ENV, str(tmp_path / "nobody-listens.sock"))
     spec = _spec()
-    assert chart_renderer.render(spec, 1.0) == vl_convert.vegalite_to_png(spec, scale=1.0)
+    assert _same(chart_renderer.render(spec, 1.0), spec, 1.0)
     monkeypatch.delenv(chart_renderer.ENV)
-    assert chart_renderer.render(spec, 1.0) == vl_convert.vegalite_to_png(spec, scale=1.0)
+    assert _same(chart_renderer.render(spec, 1.0), spec, 1.0)
 
 
 def test_closing_ends_the_renderer_and_removes_its_socket():
