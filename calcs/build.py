@@ -408,6 +408,14 @@ def _run_stage(stage: str, resolved: Path, work: Path, ahead: bool = False, fork
         evalue = str(exc.evalue).strip().splitlines()[0] if str(exc.evalue).strip() else ""
         msg = f"stage '{stage}' failed in cell {cell}: {exc.ename}: {evalue}"
         raise StageError(msg) from None
+    except RuntimeError as exc:
+        from .stage import KERNEL_DIED_AT_START, KERNEL_STARTS
+
+        _keep_notebook(running, final)
+        if KERNEL_DIED_AT_START not in str(exc):
+            raise
+        msg = f"stage '{stage}': {KERNEL_STARTS} notebook kernels in a row ended before they answered ({exc})"
+        raise StageError(msg) from None
     except BaseException:
         _keep_notebook(running, final)
         raise

@@ -224,6 +224,26 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path, ou
         extra = {"kernel_manager_class": kernel_manager_class(forks, LOW_PRIORITY if low_priority else 0)}
     else:
         extra = {"kernel_manager_class": _low_priority_kernel_manager()} if low_priority else {}
+    for attempt in range(KERNEL_STARTS):
+        try:
+            _execute(papermill, stage, project_file, build_dir, out, extra)
+            return out
+        except RuntimeError as exc:
+            # a kernel that died before it answered has run no cell: start another. (Seen once in
+            # about 30 kernel starts with four kernels starting at once: the local TCP port that
+            # jupyter_client had picked for it was taken, in the meantime, as the source port of
+            # one of the build's own connections to another kernel.)
+            if KERNEL_DIED_AT_START not in str(exc) or attempt == KERNEL_STARTS - 1:
+                raise
+    return out
+
+
+#: How many kernels a stage starts before it gives up on one that dies before answering.
+KERNEL_STARTS = 3
+KERNEL_DIED_AT_START = "Kernel died before replying to kernel_info"  # jupyter_client's words
+
+
+def _execute(papermill, stage: str, project_file, build_dir, out: Path, extra: dict) -> None:
     papermill.execute_notebook(
         str(stage_template(stage)),
         str(out),
@@ -240,7 +260,6 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path, ou
         shutdown_kernel="immediate",
         **extra,
     )
-    return out
 
 
 #: Niceness of a kernel started with ``low_priority`` (POSIX ``nice``; a priority only ever lowered).

@@ -251,6 +251,37 @@ def test_failing_stage_keeps_previous_report(make_project, tmp_path, capsys, mon
     assert _build_helpers(since) == []  # also when a stage failed and the kernels at their gates were sent home
 
 
+def test_a_kernel_that_dies_before_answering_is_started_again(make_project, tmp_path, capsys, monkeypatch):
+    """jupyter_client's "Kernel died before replying to kernel_info" (a kernel that could not bind
+    the port picked for it): no cell ran, so the stage starts another kernel; any other failure
+    to start, or a third death, is the stage's failure as before."""
+    import papermill
+
+    from calcs import stage as stage_module
+
+    real = papermill.execute_notebook
+    deaths = {"climate": 1, "openings": 2}  # climate runs at once; openings' kernel is started ahead
+
+    def flaky(template, out, **kwargs):
+        name = Path(template).stem
+        if deaths.get(name, 0) > 0:
+            deaths[name] -= 1
+            raise RuntimeError(stage_module.KERNEL_DIED_AT_START)
+        return real(template, out, **kwargs)
+
+    monkeypatch.setattr(papermill, "execute_notebook", flaky)
+    folder = make_project()
+    out = tmp_path / "build" / "P01"
+    code, _, err = _build([str(folder), "--out", str(out), "--no-pdf"], capsys)
+    assert code == 0, err
+    assert deaths == {"climate": 0, "openings": 0}
+    assert json.loads((out / "manifest.json").read_text(encoding="utf-8"))["stages"]["climate"]["reused"] is False
+
+    deaths["climate"] = stage_module.KERNEL_STARTS  # dies every time: the stage fails, in one line
+    code, _, err = _build([str(folder), "--out", str(tmp_path / "build" / "P02"), "--no-pdf", "--fresh"], capsys)
+    assert code == EXIT_STAGE_FAILED and "Kernel died before replying" in err and "Traceback" not in err
+
+
 def test_default_output_folder(make_project, tmp_path, capsys, monkeypatch):
     folder = make_project()
     monkeypatch.chdir(tmp_path)
