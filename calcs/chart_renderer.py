@@ -88,6 +88,13 @@ def render(spec: str, scale: float = 2.0) -> bytes:
     return _png(spec, scale)
 
 
+def start_engine() -> None:
+    """Render :data:`WARM_UP_SPEC`: the first rendering in a process starts vl-convert's engine."""
+    import vl_convert
+
+    vl_convert.vegalite_to_png(WARM_UP_SPEC, scale=1)
+
+
 def _png(spec: str, scale: float) -> bytes:
     """vl-convert's PNG of ``spec`` without its alpha channel (see :func:`opaque_png`)."""
     import vl_convert
@@ -182,9 +189,7 @@ def _serve(address: str) -> None:
     listener = socket.socket(socket.AF_UNIX, socket.SOCK_STREAM)
     listener.bind(address)
     listener.listen(64)  # kernels may connect now; they wait while the engine starts
-    import vl_convert
-
-    vl_convert.vegalite_to_png(WARM_UP_SPEC, scale=1)
+    start_engine()
     # one chart at a time: vl-convert renders one at a time in a process anyway (measured: six
     # renderings took as long from two or three threads as one after another)
     while True:

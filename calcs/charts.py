@@ -112,13 +112,10 @@ def _warm_up() -> None:
     """
     import os
 
-    from .chart_renderer import ENV, WARM_UP_SPEC
+    from .chart_renderer import ENV, start_engine
 
-    if os.environ.get(ENV):
-        return
-    import vl_convert
-
-    vl_convert.vegalite_to_png(WARM_UP_SPEC, scale=1)
+    if not os.environ.get(ENV):
+        start_engine()
 
 
 def day_hour_map(

@@ -154,7 +154,7 @@ def open_stage(name: str, project_file: str | Path, build_dir: str | Path = "") 
     folder.mkdir(parents=True, exist_ok=True)
     from .charts import BackgroundCharts
 
-    charts = BackgroundCharts(warm_up=True)  # the chart renderer starts while the stage waits at its gate
+    charts = BackgroundCharts(warm_up=True)  # vl-convert's engine starts during the gate wait (if it renders here)
     wait_for_gate(folder, name)
     stage = Stage(name=name, project=project, project_file=project_path, build_dir=folder)
     stage._charts = charts
@@ -224,7 +224,7 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path, ou
         extra = {"kernel_manager_class": kernel_manager_class(forks, LOW_PRIORITY if low_priority else 0)}
     else:
         extra = {"kernel_manager_class": _low_priority_kernel_manager()} if low_priority else {}
-    for attempt in range(KERNEL_STARTS):
+    for _ in range(KERNEL_STARTS - 1):
         try:
             _execute(papermill, stage, project_file, build_dir, out, extra)
             return out
@@ -233,8 +233,9 @@ def run_template(stage: str, project_file: str | Path, build_dir: str | Path, ou
             # about 30 kernel starts with four kernels starting at once: the local TCP port that
             # jupyter_client had picked for it was taken, in the meantime, as the source port of
             # one of the build's own connections to another kernel.)
-            if KERNEL_DIED_AT_START not in str(exc) or attempt == KERNEL_STARTS - 1:
+            if KERNEL_DIED_AT_START not in str(exc):
                 raise
+    _execute(papermill, stage, project_file, build_dir, out, extra)  # the last start: its failure is the stage's
     return out
 
 
