@@ -209,16 +209,20 @@ def build(
 CACHE_DIR = ".stage-cache"
 
 
-@contextlib.contextmanager
 def _sweep_environment(scheduler: str | None, jobs: int | None, store: str):
     """Tell the stage kernels (child processes) where to run their batches and keep their
     price-independent tables, for this build only."""
     from . import sweep
 
-    saved = {k: os.environ.get(k) for k in (sweep.SCHEDULER_ENV, sweep.JOBS_ENV, sweep.STORE_ENV)}
-    os.environ[sweep.SCHEDULER_ENV] = scheduler or ""
-    os.environ[sweep.JOBS_ENV] = "" if jobs is None else str(jobs)
-    os.environ[sweep.STORE_ENV] = store
+    return _environment({sweep.SCHEDULER_ENV: scheduler or "", sweep.JOBS_ENV: "" if jobs is None else str(jobs),
+                         sweep.STORE_ENV: store})
+
+
+@contextlib.contextmanager
+def _environment(values: dict[str, str]):
+    """Set environment variables for the kernels this build starts; restore them afterwards."""
+    saved = {k: os.environ.get(k) for k in values}
+    os.environ.update(values)
     try:
         yield
     finally:
@@ -243,17 +247,8 @@ def _start_chart_renderer(ends: contextlib.ExitStack) -> None:
     from .chart_renderer import ENV, ChartRenderer
 
     renderer = ChartRenderer()
-    saved = os.environ.get(ENV)
-    os.environ[ENV] = renderer.address
-
-    def end() -> None:
-        if saved is None:
-            os.environ.pop(ENV, None)
-        else:
-            os.environ[ENV] = saved
-        renderer.close()
-
-    ends.callback(end)
+    ends.callback(renderer.close)
+    ends.enter_context(_environment({ENV: renderer.address}))  # restored before the renderer ends
 
 
 def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, str], fresh: bool,
