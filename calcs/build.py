@@ -17,7 +17,6 @@ from __future__ import annotations
 
 import contextlib
 import datetime as dt
-import importlib
 import json
 import os
 import re
@@ -174,31 +173,32 @@ def build(
     if work.exists():
         shutil.rmtree(work)
     work.mkdir()
-    try:
-        inputs_sha = prepare_inputs(project_file, project, work, overrides)
-        resolved = work / INPUTS / RESOLVED_FILE
-        seconds: dict[str, float] = {}
-        store = "" if fresh else str(target.parent / CACHE_DIR / "sweeps")
-        if pdf:  # WeasyPrint's import (≈ 0.8 s) overlaps with the stages instead of delaying the PDF
-            threading.Thread(target=_import_quietly, args=("weasyprint",), name="freerun-pdf-import",
-                             daemon=True).start()
-        with _sweep_environment(scheduler, jobs, store):
-            stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
-        results = merge_results(work)
-        (work / RESULTS_FILE).write_text(dump_json(results), encoding="utf-8")
-        manifest = write_manifest(work, project, inputs_sha, overrides, started,
-                                  extra={"revision_override": new_revision, "stages": stages,
-                                         "batches_ran_on": sweep.describe(scheduler, jobs)})
-        manifest = record_history(work, target, manifest)
-        say("rendering report" + (", PDF" if pdf else "") + " and table exports ...")
-        t0 = time.perf_counter()
-        render_into(work, project, results, manifest, pdf=pdf)
-        render_seconds = time.perf_counter() - t0
-        say(f"rendered in {render_seconds:.1f} s")
-        refuse_if_signed(target)  # signed while this build ran: keep the signed one
-    except BaseException:
-        _keep_failed(work, target)
-        raise
+    printers = None
+    with contextlib.ExitStack() as ends:  # ends the PDF helper, whatever happens
+        try:
+            inputs_sha = prepare_inputs(project_file, project, work, overrides)
+            resolved = work / INPUTS / RESOLVED_FILE
+            seconds: dict[str, float] = {}
+            store = "" if fresh else str(target.parent / CACHE_DIR / "sweeps")
+            if pdf:  # the PDF's helpers import WeasyPrint while the stages run (≈ 1 s), at a low priority
+                printers = _start_printers(ends)
+            with _sweep_environment(scheduler, jobs, store):
+                stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
+            results = merge_results(work)
+            (work / RESULTS_FILE).write_text(dump_json(results), encoding="utf-8")
+            manifest = write_manifest(work, project, inputs_sha, overrides, started,
+                                      extra={"revision_override": new_revision, "stages": stages,
+                                             "batches_ran_on": sweep.describe(scheduler, jobs)})
+            manifest = record_history(work, target, manifest)
+            say("rendering report" + (", PDF" if pdf else "") + " and table exports ...")
+            t0 = time.perf_counter()
+            render_into(work, project, results, manifest, pdf=pdf, printers=printers)
+            render_seconds = time.perf_counter() - t0
+            say(f"rendered in {render_seconds:.1f} s")
+            refuse_if_signed(target)  # signed while this build ran: keep the signed one
+        except BaseException:
+            _keep_failed(work, target)
+            raise
     _swap_into_place(work, target)
     total = time.perf_counter() - started_wall
     say(f"report written to {target / 'report.html'} in {total:.1f} s")
@@ -233,11 +233,25 @@ def _environment(values: dict[str, str]):
                 os.environ[k] = v
 
 
-def _import_quietly(module: str) -> None:
-    """Import ``module`` ahead of its use; a failure is left for the real use to report."""
+def _start_printers(ends: contextlib.ExitStack) -> Any:
+    """The PDF helpers of :mod:`calcs.pdf_parts`; where the PDF is laid out as one document, here,
+    None, and WeasyPrint's import and fonts (≈ 0.8 s) are loaded in a thread meanwhile."""
+    from . import pdf_parts
+
+    if not pdf_parts.enabled():
+        threading.Thread(target=_warm_up_pdf, name="freerun-pdf-import", daemon=True).start()
+        return None
+    printers = pdf_parts.start()
+    ends.callback(pdf_parts.close, printers)
+    return printers
+
+
+def _warm_up_pdf() -> None:
     try:
-        importlib.import_module(module)
-    except Exception:  # noqa: BLE001, S110 - reported where the module is used
+        from .pdf import warm_up
+
+        warm_up()
+    except Exception:  # noqa: BLE001, S110 - reported where the PDF is rendered
         pass
 
 
@@ -463,7 +477,8 @@ def write_manifest(
 
 
 def render_into(folder: Path, project: Project, results: dict[str, Any], manifest: dict[str, Any],
-                signatures: list[dict[str, Any]] | None = None, *, pdf: bool | None = None) -> Path:
+                signatures: list[dict[str, Any]] | None = None, *, pdf: bool | None = None,
+                printers: Any = None) -> Path:
     """Render report.html, its table exports and report.pdf into a build folder.
 
     ``pdf``: write report.pdf (None: re-write it when the folder has one, as on signing). All are
@@ -489,7 +504,7 @@ def render_into(folder: Path, project: Project, results: dict[str, Any], manifes
                          signatures=signatures, extra_cover=extra, changes=manifest.get("changes_since_previous"))
     from .pdf import paper_of, write_renderings
 
-    return write_renderings(folder, page, pdf=pdf, paper=paper_of(project))
+    return write_renderings(folder, page, pdf=pdf, paper=paper_of(project), printers=printers)
 
 
 def _keep_failed(work: Path, target: Path) -> None:

@@ -22,11 +22,13 @@ has one) and the exports from it.
 
 from __future__ import annotations
 
+import contextlib
 import json
 import logging
 import os
 import re
 from pathlib import Path
+from collections.abc import Iterator
 from typing import Any
 
 from .errors import FreerunError
@@ -117,30 +119,62 @@ def break_long_words(page: str) -> str:
     return "".join(out)
 
 
-def render_pdf(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER) -> Path:
-    """Lay out one report page (HTML text) as a PDF at ``target`` (written directly: callers stage it)."""
-    import weasyprint
-
-    target = Path(target)
-    size = weasyprint.CSS(string=f"@page {{ size: {_paper(paper, 'paper')}; }}")
+@contextlib.contextmanager
+def writing() -> Iterator[None]:
+    """WeasyPrint quiet (CSS it does not know — screen-only rules — is not the user's business) and
+    reproducible: embedded font subsets carry a timestamp (fontTools honours SOURCE_DATE_EPOCH),
+    fixed here so that the same page gives the same PDF bytes."""
     quiet = logging.getLogger("weasyprint")
     level = quiet.level
-    quiet.setLevel(logging.ERROR)  # CSS it does not know (screen-only rules) is not the user's business
-    # Embedded font subsets carry a timestamp (fontTools honours SOURCE_DATE_EPOCH): fix it, so the same
-    # page gives the same PDF bytes.
+    quiet.setLevel(logging.ERROR)
     epoch = os.environ.get("SOURCE_DATE_EPOCH")
     os.environ["SOURCE_DATE_EPOCH"] = epoch or "946684800"
     try:
-        document = weasyprint.HTML(string=break_long_words(page), base_url=str(target.parent), url_fetcher=_fetcher())
-        document.write_pdf(str(target), stylesheets=[size])
-    except Exception as exc:  # noqa: BLE001 - one line for the user, not a traceback
-        msg = f"{target.name}: the PDF could not be rendered ({type(exc).__name__}: {exc}); report.html is unaffected"
-        raise FreerunError(msg) from None
+        yield
     finally:
         quiet.setLevel(level)
         if epoch is None:
             os.environ.pop("SOURCE_DATE_EPOCH", None)
+
+
+def weasy_document(page: str, paper: str, *, base_url: str) -> Any:
+    """WeasyPrint's laid-out document of one page of HTML text (long words made breakable)."""
+    import weasyprint
+
+    size = weasyprint.CSS(string=f"@page {{ size: {_paper(paper, 'paper')}; }}")
+    return weasyprint.HTML(string=break_long_words(page), base_url=base_url, url_fetcher=_fetcher()).render(
+        stylesheets=[size])
+
+
+def warm_up() -> None:
+    """Lay out and write a few words in the report's fonts: the first layout in a process loads them."""
+    with writing():
+        weasy_document("<p>a <b>b</b> <i>c</i> <code>d</code></p>", DEFAULT_PAPER, base_url=".").write_pdf()
+
+
+def render_whole(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER) -> Path:
+    """Lay out one report page (HTML text) as one document and write it to ``target`` (directly)."""
+    target = Path(target)
+    try:
+        with writing():
+            weasy_document(page, paper, base_url=str(target.parent)).write_pdf(str(target))
+    except Exception as exc:  # noqa: BLE001 - one line for the user, not a traceback
+        msg = f"{target.name}: the PDF could not be rendered ({type(exc).__name__}: {exc}); report.html is unaffected"
+        raise FreerunError(msg) from None
     return target
+
+
+def render_pdf(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER, printers: Any = None) -> Path:
+    """Lay out one report page (HTML text) as a PDF at ``target`` (written directly: callers stage it).
+
+    In two processes at once where it can be (:mod:`calcs.pdf_parts`; ``printers``: the build's
+    helpers, else two are started for this rendering), else as one document; the pages are the same.
+    """
+    from . import pdf_parts
+
+    if pdf_parts.enabled() and pdf_parts.render(page, target, _paper(paper, "paper"), printers):
+        return Path(target)
+    return render_whole(page, target, paper=paper)
 
 
 def write_pdf(build_dir: str | Path, *, paper: str | None = None) -> Path:
@@ -168,11 +202,13 @@ def write_pdf(build_dir: str | Path, *, paper: str | None = None) -> Path:
     return target
 
 
-def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, paper: str = DEFAULT_PAPER) -> Path:
+def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, paper: str = DEFAULT_PAPER,
+                     printers: Any = None) -> Path:
     """Write report.html, the exports and (``pdf``; None: when the folder has one already) report.pdf.
 
     Everything is rendered under temporary names first; the files are replaced only when all
-    renderings succeeded. Returns the path of report.html.
+    renderings succeeded. ``printers``: the build's PDF helpers (:func:`calcs.pdf_parts.start`).
+    Returns the path of report.html.
     """
     from .exports import stage_exports, swap_exports
 
@@ -186,7 +222,7 @@ def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, 
     try:
         html_tmp.write_text(page, encoding="utf-8")
         if want_pdf:
-            render_pdf(page, pdf_tmp, paper=paper)
+            render_pdf(page, pdf_tmp, paper=paper, printers=printers)
         staged = stage_exports(folder, page)
         swap_exports(folder, staged)
         staged = None

@@ -201,7 +201,7 @@ def test_check_run_records_overrides(public_builds):
 
 def _build_helpers(since: float) -> list[str]:
     """Processes a build started that are still running: the kernel fork server, kernels forked
-    from it (a fork keeps the server's command line) and the chart renderer."""
+    from it (a fork keeps the server's command line), the chart renderer and the PDF helper."""
     import time
 
     import psutil
@@ -211,7 +211,8 @@ def _build_helpers(since: float) -> list[str]:
         left = []
         for proc in psutil.process_iter(["cmdline", "create_time", "status"]):
             line = " ".join(proc.info["cmdline"] or [])
-            if (("calcs.kernel_forks" in line or "calcs.chart_renderer" in line) and proc.info["create_time"] >= since
+            if (any(m in line for m in ("calcs.kernel_forks", "calcs.chart_renderer", "calcs.pdf_parts"))
+                    and proc.info["create_time"] >= since
                     and proc.info["status"] != psutil.STATUS_ZOMBIE):
                 left.append(line)
         if not left or time.monotonic() > deadline:

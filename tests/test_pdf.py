@@ -256,7 +256,8 @@ def test_pdf_is_reproducible_and_atomic(demo, tmp_path, monkeypatch):
     def broken(self, *args, **kwargs):
         raise RuntimeError("deliberate failure for the test")
 
-    monkeypatch.setattr(weasyprint.HTML, "write_pdf", broken)
+    monkeypatch.setenv("FREERUN_PDF_PARTS", "0")  # laid out here, as one document (parts fall back to that)
+    monkeypatch.setattr(weasyprint.Document, "write_pdf", broken)
     html_before = (copy / "report.html").read_bytes()
     with pytest.raises(FreerunError, match="could not be rendered"):
         write_pdf(copy)
