@@ -192,7 +192,7 @@ def build(
             manifest = record_history(work, target, manifest)
             say("rendering report" + (", PDF" if pdf else "") + " and table exports ...")
             t0 = time.perf_counter()
-            render_into(work, project, results, manifest, pdf=pdf, printers=printers)
+            render_into(work, project, results, manifest, pdf=pdf, printers=printers, fresh=fresh)
             render_seconds = time.perf_counter() - t0
             say(f"rendered in {render_seconds:.1f} s")
             refuse_if_signed(target)  # signed while this build ran: keep the signed one
@@ -207,6 +207,8 @@ def build(
 
 
 CACHE_DIR = ".stage-cache"
+#: Laid-out parts of report.pdf (:class:`calcs.pdf_parts.PartCache`), in the stage cache folder.
+PDF_PARTS_DIR = "pdf-parts"
 
 
 def _sweep_environment(scheduler: str | None, jobs: int | None, store: str):
@@ -478,12 +480,13 @@ def write_manifest(
 
 def render_into(folder: Path, project: Project, results: dict[str, Any], manifest: dict[str, Any],
                 signatures: list[dict[str, Any]] | None = None, *, pdf: bool | None = None,
-                printers: Any = None) -> Path:
+                printers: Any = None, fresh: bool = False) -> Path:
     """Render report.html, its table exports and report.pdf into a build folder.
 
     ``pdf``: write report.pdf (None: re-write it when the folder has one, as on signing). All are
     rendered first and replace the previous files only when every one succeeded
-    (:func:`calcs.pdf.write_renderings`).
+    (:func:`calcs.pdf.write_renderings`). ``printers``: the build's PDF helpers; the PDF's parts
+    come from (and go to) the cache of laid-out parts beside the stage cache, unless ``fresh``.
     """
     audit_info = {
         **{k: manifest[k] for k in ("tool_version", "git_commit", "python", "packages", "inputs_sha256",
@@ -504,7 +507,9 @@ def render_into(folder: Path, project: Project, results: dict[str, Any], manifes
                          signatures=signatures, extra_cover=extra, changes=manifest.get("changes_since_previous"))
     from .pdf import paper_of, write_renderings
 
-    return write_renderings(folder, page, pdf=pdf, paper=paper_of(project), printers=printers)
+    parts = folder.parent / CACHE_DIR / PDF_PARTS_DIR  # laid-out PDF parts, beside the stage cache
+    return write_renderings(folder, page, pdf=pdf, paper=paper_of(project), printers=printers,
+                            cache=None if fresh else parts)
 
 
 def _keep_failed(work: Path, target: Path) -> None:

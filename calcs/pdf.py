@@ -137,19 +137,29 @@ def writing() -> Iterator[None]:
             os.environ.pop("SOURCE_DATE_EPOCH", None)
 
 
-def weasy_document(page: str, paper: str, *, base_url: str) -> Any:
-    """WeasyPrint's laid-out document of one page of HTML text (long words made breakable)."""
+def weasy_document(page: str, paper: str, *, base_url: str, font_config: Any = None) -> Any:
+    """WeasyPrint's laid-out document of one page of HTML text (long words made breakable).
+
+    ``font_config``: a ``weasyprint.text.fonts.FontConfiguration`` to share between documents
+    (each new one loads the fonts again); it must outlive the documents.
+    """
     import weasyprint
 
     size = weasyprint.CSS(string=f"@page {{ size: {_paper(paper, 'paper')}; }}")
     return weasyprint.HTML(string=break_long_words(page), base_url=base_url, url_fetcher=_fetcher()).render(
-        stylesheets=[size])
+        stylesheets=[size], font_config=font_config)
 
 
-def warm_up() -> None:
-    """Lay out and write a few words in the report's fonts: the first layout in a process loads them."""
+def warm_up() -> Any:
+    """Lay out and write a few words in the report's fonts (the first layout in a process loads them);
+    returns the font configuration, loaded, to lay out more documents with."""
+    from weasyprint.text.fonts import FontConfiguration
+
+    fonts = FontConfiguration()
     with writing():
-        weasy_document("<p>a <b>b</b> <i>c</i> <code>d</code></p>", DEFAULT_PAPER, base_url=".").write_pdf()
+        weasy_document("<p>a <b>b</b> <i>c</i> <code>d</code></p>", DEFAULT_PAPER, base_url=".",
+                       font_config=fonts).write_pdf()
+    return fonts
 
 
 def render_whole(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER) -> Path:
@@ -164,15 +174,17 @@ def render_whole(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER) -
     return target
 
 
-def render_pdf(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER, printers: Any = None) -> Path:
+def render_pdf(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER, printers: Any = None,
+               cache: str | Path | None = None) -> Path:
     """Lay out one report page (HTML text) as a PDF at ``target`` (written directly: callers stage it).
 
-    In two processes at once where it can be (:mod:`calcs.pdf_parts`; ``printers``: the build's
-    helpers, else two are started for this rendering), else as one document; the pages are the same.
+    In parts, two processes at once, where it can be (:mod:`calcs.pdf_parts`; ``printers``: the
+    build's helpers, else two are started for this rendering; ``cache``: a folder of laid-out
+    parts), else as one document; the pages are the same either way.
     """
     from . import pdf_parts
 
-    if pdf_parts.enabled() and pdf_parts.render(page, target, _paper(paper, "paper"), printers):
+    if pdf_parts.enabled() and pdf_parts.render(page, target, _paper(paper, "paper"), printers, cache):
         return Path(target)
     return render_whole(page, target, paper=paper)
 
@@ -203,11 +215,12 @@ def write_pdf(build_dir: str | Path, *, paper: str | None = None) -> Path:
 
 
 def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, paper: str = DEFAULT_PAPER,
-                     printers: Any = None) -> Path:
+                     printers: Any = None, cache: str | Path | None = None) -> Path:
     """Write report.html, the exports and (``pdf``; None: when the folder has one already) report.pdf.
 
     Everything is rendered under temporary names first; the files are replaced only when all
-    renderings succeeded. ``printers``: the build's PDF helpers (:func:`calcs.pdf_parts.start`).
+    renderings succeeded. ``printers``, ``cache``: the build's PDF helpers
+    (:func:`calcs.pdf_parts.start`) and folder of laid-out parts (:func:`render_pdf`).
     Returns the path of report.html.
     """
     from .exports import stage_exports, swap_exports
@@ -222,7 +235,7 @@ def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, 
     try:
         html_tmp.write_text(page, encoding="utf-8")
         if want_pdf:
-            render_pdf(page, pdf_tmp, paper=paper, printers=printers)
+            render_pdf(page, pdf_tmp, paper=paper, printers=printers, cache=cache)
         staged = stage_exports(folder, page)
         swap_exports(folder, staged)
         staged = None

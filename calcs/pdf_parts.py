@@ -6,7 +6,7 @@ that the print style sheet forces anyway (each top-level block of ``report.html`
 ``<!--freerun-part-->`` mark, :data:`MARK`) into
 
 * part **A**: the cover, the executive summary, the notes and the first stage sections;
-* part **B**: the remaining stage sections and the appendices (about :data:`B_SHARE` of the text);
+* part **B**: the remaining stage sections and the appendices;
 * the **contents** page, laid out once both parts are, with the page numbers they give;
 * a **footer layer**: one empty page per page of the report carrying only "page N of M".
 
@@ -32,6 +32,7 @@ JSON) on standard input and answers on standard output; it ends when its input c
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import re
@@ -39,6 +40,7 @@ import struct
 import subprocess
 import sys
 import tempfile
+import threading
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
@@ -46,18 +48,23 @@ from typing import Any
 
 #: Put before every top-level block of the report page by ``templates/report.html.j2``.
 MARK = "<!--freerun-part-->"
-#: Around what every part repeats (the running-header strings and the DRAFT mark), in the cover.
+#: Around what every part repeats (the DRAFT mark, until the report is approved), in the cover.
+#: Every block starts with its own ``p.print-strings`` (the running-header strings), so that each
+#: part's first block has the boxes it has in the one-document layout.
 COMMON = ("<!--freerun-common-->", "<!--/freerun-common-->")
 #: ``FREERUN_PDF_PARTS=0`` lays the PDF out as one document, in this process.
 ENV = "FREERUN_PDF_PARTS"
 #: Blocks that start on a new page (``templates/report.css``: ``section.stage, section.decisions,
-#: section.audit, section.changes { break-before: page }``): part B may begin at one of them.
-PAGE_STARTS = ("stage", "decisions", "audit", "changes")
+#: section.audit, section.parameters, section.changes { break-before: page }``): a part may begin
+#: at one of them.
+PAGE_STARTS = ("stage", "decisions", "audit", "parameters", "changes")
 #: The contents block (its own page or pages: the summary breaks after, the contents too).
 CONTENTS = "contents"
-#: Share of the page's text that part B takes, at most: the parent also lays out the contents
-#: and the footer layer and puts the document together.
-B_SHARE = 0.58
+#: A part after the contents takes the next page-starting block too while both are smaller than
+#: this share of the page's text (each laid-out document costs ≈ 0.1 s of its own).
+MIN_SHARE = 0.10
+#: Laid-out parts kept in a build's cache folder (the least recently used go first).
+CACHE_ENTRIES = 64
 #: Resource name of the footer layer of page N: this + N.
 LAYER = "/FreerunPageNumber"
 #: Niceness of the helper: it imports WeasyPrint while the stages run.
@@ -150,61 +157,63 @@ def _receive(stream: Any) -> dict[str, Any]:
 
 
 def _serve() -> None:
-    """The helper's loop: ``part`` jobs (lay out, answer, write, answer) and ``finish`` jobs."""
+    """The helper's loop: ``part``, ``contents`` and ``footer`` jobs, one at a time."""
     from .pdf import warm_up
 
-    warm_up()
+    fonts = warm_up()  # one font configuration for every document this helper lays out
     inp, out = sys.stdin.buffer, sys.stdout.buffer
+    jobs = {"part": _part, "contents": _contents, "footer": _footer}
     while True:
         try:
             job = _receive(inp)
         except OSError:
             return  # the build closed our input
         try:
-            if "finish" in job:
-                _send(out, _finish(job))
-            else:
-                _part(job, out)
+            jobs[job["kind"]](job, out, fonts)
         except Exception as exc:  # noqa: BLE001 - sent back; the build falls back to one document
             _send(out, {"error": f"{type(exc).__name__}: {exc}"})
 
 
-def _part(job: dict[str, Any], out: Any) -> None:
+def _part(job: dict[str, Any], out: Any, fonts: Any) -> None:
     """Lay out one part; answer its pages, anchors and bookmark levels; write it; answer again."""
     from .pdf import weasy_document, writing
 
     with writing():
-        document = weasy_document(job["html"], job["paper"], base_url=job["base_url"])
+        document = weasy_document(job["html"], job["paper"], base_url=job["base_url"], font_config=fonts)
         _send(out, {"pages": len(document.pages), "anchors": _anchor_pages(document), "levels": _levels(document)})
         document.write_pdf(job["out"])
     _send(out, {"written": True})
 
 
-def _finish(job: dict[str, Any]) -> dict[str, Any]:
-    """Lay out and write the contents page(s) and the footer layer.
-
-    ``candidates[k - 1]`` is the contents with the page numbers it gives when it is k pages
-    long; the first that is as long as it assumes is the one. ``around``: the pages of the
-    parts; the footer layer has ``around`` + the contents' pages.
-    """
+def _contents(job: dict[str, Any], out: Any, fonts: Any) -> None:
+    """Lay out and write the contents: ``candidates[k - 1]`` has the page numbers the parts get when
+    the contents is k pages long; the first that is as long as it assumes is the one."""
     from .pdf import weasy_document, writing
 
     with writing():
         for length, html in enumerate(job["candidates"], start=1):
-            contents = weasy_document(html, job["paper"], base_url=job["base_url"])
-            if len(contents.pages) == length:
+            document = weasy_document(html, job["paper"], base_url=job["base_url"], font_config=fonts)
+            if len(document.pages) == length:
                 break
         else:
             msg = "the contents does not settle on a length"
             raise RuntimeError(msg)
-        contents.write_pdf(job["contents_out"])
-        total = job["around"] + length
-        layer = weasy_document(footer_html(job["head"], total), job["paper"], base_url=job["base_url"])
-        if len(layer.pages) != total:
-            msg = f"the footer layer has {len(layer.pages)} pages, not {total}"
+        document.write_pdf(job["out"])
+    _send(out, {"pages": length, "levels": _levels(document)})
+
+
+def _footer(job: dict[str, Any], out: Any, fonts: Any) -> None:
+    """Lay out and write the footer layer of ``count`` pages."""
+    from .pdf import weasy_document, writing
+
+    with writing():
+        layer = weasy_document(footer_html(job["head"], job["count"]), job["paper"], base_url=job["base_url"],
+                               font_config=fonts)
+        if len(layer.pages) != job["count"]:
+            msg = f"the footer layer has {len(layer.pages)} pages, not {job['count']}"
             raise RuntimeError(msg)
-        layer.write_pdf(job["footer_out"])
-    return {"contents_pages": length, "levels": _levels(contents)}
+        layer.write_pdf(job["out"])
+    _send(out, {"pages": job["count"]})
 
 
 # ----------------------------------------------------------------------------- cutting the page
@@ -231,6 +240,7 @@ class Cut:
 
 
 _TAG = re.compile(r'\s*<(section|nav)\b([^>]*)>')
+_STRINGS = re.compile(r'\s*<p class="print-strings"[^>]*>')
 _CLASS = re.compile(r'\bclass="([^"]+)"')
 
 
@@ -257,22 +267,36 @@ def cut_page(page: str) -> Cut | None:
     return Cut(page[:head_end], page[body_at:body_open], page[start + len(COMMON[0]):end], blocks, page[tail_at:])
 
 
-def choose_split(cut: Cut) -> tuple[list[Block], Block, list[Block], list[Block]] | None:
-    """(A before the contents, the contents, A after it, B), or None when no split fits."""
+def plan(cut: Cut) -> tuple[list[Block], Block, list[list[Block]]] | None:
+    """(the blocks before the contents, the contents, the parts after it), or None when the page has no contents.
+
+    After the contents a part starts at each block that starts a page (:data:`PAGE_STARTS`),
+    unless both the part so far and that block are less than :data:`MIN_SHARE` of the page's
+    text: each sizable stage section (and the parameter list) is a part of its own, so a rebuild
+    that changed one stage lays out that part again and takes the others from the cache. The
+    parts depend on the page only.
+    """
     ids = [b.id for b in cut.blocks]
-    if CONTENTS not in ids:
+    if CONTENTS not in ids or ids.index(CONTENTS) == 0:
         return None
     at = ids.index(CONTENTS)
-    weights = [len(_DATA_URI.sub("", b.html)) for b in cut.blocks]
-    total = sum(weights)
-    best = None
-    for k in range(at + 2, len(cut.blocks)):
-        if cut.blocks[k].kind in PAGE_STARTS and sum(weights[k:]) <= B_SHARE * total:
-            best = k
-            break
-    if best is None:
+    weight = {id(b): _weight(b.html) for b in cut.blocks}
+    total = sum(weight.values())
+    parts: list[list[Block]] = []
+    for block in cut.blocks[at + 1:]:
+        sizable = max(sum(weight[id(b)] for b in parts[-1]) if parts else 0, weight[id(block)]) >= MIN_SHARE * total
+        if not parts or (block.kind in PAGE_STARTS and sizable):
+            parts.append([block])
+        else:
+            parts[-1].append(block)
+    if not parts:
         return None
-    return cut.blocks[:at], cut.blocks[at], cut.blocks[at + 1:best], cut.blocks[best:]
+    return cut.blocks[:at], cut.blocks[at], parts
+
+
+def _weight(html: str) -> int:
+    """Rough layout work of some HTML: its length without embedded images."""
+    return len(_DATA_URI.sub("", html))
 
 
 def part_html(cut: Cut, blocks: list[Block], css: str, *, pages: dict[str, int] | None = None) -> str:
@@ -287,10 +311,14 @@ def part_html(cut: Cut, blocks: list[Block], css: str, *, pages: dict[str, int] 
     defined = set(_ID.findall(html)) | set(_ID.findall(cut.prefix))
     missing = sorted(set(_HREF.findall(html)) - defined)
     stand_ins = "".join(f'<span id="{name}"></span>' for name in missing)
-    tag = _TAG.match(html)
-    at = tag.end()
-    inner = ("" if COMMON[0] in html else cut.prefix) \
-        + (f'<p class="print-strings" aria-hidden="true">{stand_ins}</p>' if stand_ins else "")
+    at = _TAG.match(html).end()
+    strings = _STRINGS.match(html, at)
+    if strings is not None:  # the block's own running-header strings (every block of the template has them)
+        close = html.index("</p>", strings.end())
+        html = html[:close] + stand_ins + html[close:]
+    elif stand_ins:  # a page of other making: a hidden paragraph of their own
+        html = html[:at] + f'<p class="print-strings" aria-hidden="true">{stand_ins}</p>' + html[at:]
+    inner = "" if COMMON[0] in html else cut.prefix  # the DRAFT mark (out of the flow: it moves nothing)
     return (cut.head + f"<style>{css}</style></head>\n" + cut.body_tag + html[:at] + inner + html[at:]
             + cut.tail)
 
@@ -333,23 +361,26 @@ def close(printers: tuple[Printer, Printer]) -> None:
         printer.close()
 
 
-def render(page: str, target: str | Path, paper: str, printers: tuple[Printer, Printer] | None = None) -> bool:
+def render(page: str, target: str | Path, paper: str, printers: tuple[Printer, Printer] | None = None,
+           cache: str | Path | None = None) -> bool:
     """Lay ``page`` out in parts and write the assembled PDF to ``target``; False when it cannot be done so.
 
     ``printers``: the build's helpers (:func:`start`, started ahead); None starts two for this
-    rendering. A False return leaves nothing behind; the caller then lays the page out as one
-    document.
+    rendering. ``cache``: a folder of laid-out parts (:class:`PartCache`) to take unchanged parts
+    from and to keep new ones in. A False return leaves nothing behind; the caller then lays the
+    page out as one document.
     """
     cut = cut_page(page)
-    split = choose_split(cut) if cut is not None else None
-    if split is None:
+    layout = plan(cut) if cut is not None else None
+    if layout is None:
         return False
     own = printers is None
     pair = start() if printers is None else printers
     folder = Path(tempfile.mkdtemp(prefix=".pdf-parts-", dir=str(Path(target).parent)))
     done = False
     try:
-        done = _render(cut, *split, Path(target), paper, pair, folder)
+        store = PartCache(Path(cache), paper) if cache is not None else None
+        done = _render(cut, *layout, Path(target), paper, pair, folder, store)
     except Exception:  # noqa: BLE001 - the one-document layout follows, and reports its own failure
         done = False
     finally:
@@ -361,66 +392,205 @@ def render(page: str, target: str | Path, paper: str, printers: tuple[Printer, P
     return done
 
 
-def _render(cut: Cut, front: list[Block], contents: Block, rest: list[Block], back: list[Block], target: Path,
-            paper: str, pair: tuple[Printer, Printer], folder: Path) -> bool:
-    """A (before and after the contents) in one helper, B in the other, then the contents and the footer layer."""
-    first, second = pair
+@dataclass
+class Laid:
+    """A laid-out part: its PDF and what its helper told of it."""
+
+    path: Path
+    info: dict[str, Any]
+
+
+class PartCache:
+    """Laid-out parts by the SHA-256 of what made them (the part's HTML, page size, code versions).
+
+    An entry is ``<key>.pdf`` and ``<key>.json`` (pages, anchors, bookmark levels and the PDF's
+    SHA-256, checked on use: a damaged entry is laid out again). The same HTML gives the same
+    bytes, so a part from the cache is the part that would be laid out now.
+    """
+
+    def __init__(self, folder: Path, paper: str) -> None:
+        from importlib.metadata import version
+
+        from .cache import code_version
+
+        self.folder = folder
+        self._salt = json.dumps([paper, version("weasyprint"), code_version()])
+
+    def key(self, *texts: str) -> str:
+        import hashlib
+
+        digest = hashlib.sha256(self._salt.encode())
+        for text in texts:
+            digest.update(b"\0" + text.encode("utf-8"))
+        return digest.hexdigest()
+
+    def fetch(self, key: str) -> Laid | None:
+        from .audit import sha256_file
+
+        path, note = self.folder / f"{key}.pdf", self.folder / f"{key}.json"
+        try:
+            info = json.loads(note.read_text(encoding="utf-8"))
+            if sha256_file(path) != info.get("sha256"):
+                return None
+            os.utime(note)  # recently used
+        except (OSError, ValueError):
+            return None
+        return Laid(path, info)
+
+    def put(self, key: str, laid: Laid) -> None:
+        import shutil
+
+        from .audit import sha256_file
+
+        try:
+            self.folder.mkdir(parents=True, exist_ok=True)
+            path, note = self.folder / f"{key}.pdf", self.folder / f"{key}.json"
+            tmp = path.with_name(f".{path.name}.{os.getpid()}")
+            shutil.copyfile(laid.path, tmp)
+            os.replace(tmp, path)
+            tmp = note.with_name(f".{note.name}.{os.getpid()}")
+            tmp.write_text(json.dumps({**laid.info, "sha256": sha256_file(path)}), encoding="utf-8")
+            os.replace(tmp, note)
+            self._prune()
+        except OSError:
+            pass  # a cache that cannot be written only costs time
+
+    def _prune(self) -> None:
+        notes = sorted(self.folder.glob("*.json"), key=lambda p: p.stat().st_mtime)
+        for note in notes[:-CACHE_ENTRIES]:
+            note.with_suffix(".pdf").unlink(missing_ok=True)
+            note.unlink(missing_ok=True)
+
+
+def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Block]], target: Path, paper: str,
+            pair: tuple[Printer, Printer], folder: Path, store: PartCache | None) -> bool:
+    """Every part in one of the two helpers (largest first), then the contents and the footer layer side by side."""
     base = str(target.parent)
-    a_path, b_path, c_path, f_path = (folder / f"{n}.pdf" for n in "abcf")
-    second.submit({"html": part_html(cut, back, PART_CSS), "paper": paper, "out": str(b_path), "base_url": base})
-    first.submit({"html": part_html(cut, front + rest, PART_CSS), "paper": paper, "out": str(a_path),
-                  "base_url": base})
-    a_info, b_info = first.reply(), second.reply()
-    a_count, b_count = a_info["pages"], b_info["pages"]
-    split_at = a_info["anchors"].get(rest[0].id) if rest else a_count
-    if split_at is None:
-        return False
+    parts = [front, *after]  # in page order; the contents goes after the first
+    htmls = [part_html(cut, blocks, PART_CSS) for blocks in parts]
+    own = [defined_ids(cut, blocks) for blocks in parts]  # a part's other anchors are stand-ins
+    laid: dict[Any, Laid] = {}  # part index, "contents" or "footer" → its laid-out PDF
+    keys = [store.key(html) if store else "" for html in htmls]
+    for i, key in enumerate(keys):
+        hit = store.fetch(key) if store else None
+        if hit is not None:
+            laid[i] = hit
+    todo: list[Any] = sorted((i for i in range(len(parts)) if i not in laid), key=lambda i: -_weight(htmls[i]))
+    todo += ["contents", "footer"]  # once every part's pages are known
+    known = threading.Condition()
+    failures: list[BaseException] = []
+
+    def counts() -> list[int]:
+        return [laid[i].info["pages"] for i in range(len(parts))]
 
     def numbers(length: int) -> dict[str, int]:
-        """Page number of every anchor when the contents is ``length`` pages long."""
-        found = {name: index + 1 + (length if index >= split_at else 0) for name, index in a_info["anchors"].items()}
-        found.update({name: a_count + length + index + 1 for name, index in b_info["anchors"].items()})
+        """Page number of each part's anchors when the contents is ``length`` pages long."""
+        found: dict[str, int] = {}
+        offset = 0
+        for i, pages in enumerate(counts()):
+            for name, index in laid[i].info["anchors"].items():
+                if name in own[i]:
+                    found.setdefault(name, offset + index + 1)
+            offset += pages + (length if i == 0 else 0)
         return found
 
-    candidates = [part_html(cut, [contents], PART_CSS + CONTENTS_CSS, pages=numbers(n)) for n in (1, 2, 3)]
-    first.reply()  # A is written: its helper lays out the contents and the footer layer while B is written
-    first.submit({"finish": True, "candidates": candidates, "head": cut.head, "around": a_count + b_count,
-                  "paper": paper, "contents_out": str(c_path), "footer_out": str(f_path), "base_url": base})
-    c_info = first.reply()
-    second.reply()  # B is written
-    own_ids = (defined_ids(cut, front + rest), defined_ids(cut, [contents]), defined_ids(cut, back))
-    return assemble(a_path, c_path, b_path, f_path, target, split_at=split_at,
-                    levels=(a_info["levels"], c_info["levels"], b_info["levels"]), ids=own_ids)
+    def job_for(task: Any) -> tuple[dict[str, Any], str]:
+        """The helper's job for ``task`` and its cache key."""
+        common = {"paper": paper, "base_url": base, "out": str(folder / f"{task}.pdf")}
+        if task == "contents":
+            candidates = [part_html(cut, [contents], PART_CSS + CONTENTS_CSS, pages=numbers(n)) for n in (1, 2, 3)]
+            return {**common, "kind": "contents", "candidates": candidates}, store.key(*candidates) if store else ""
+        if task == "footer":  # beside the contents, assuming one page unless it is known (checked below)
+            count = sum(counts()) + (laid["contents"].info["pages"] if "contents" in laid else 1)
+            return ({**common, "kind": "footer", "head": cut.head, "count": count},
+                    store.key("footer", cut.head, str(count)) if store else "")
+        return {**common, "kind": "part", "html": htmls[task]}, keys[task]
+
+    def run(helper: Printer, task: Any) -> None:
+        job, key = job_for(task)
+        hit = store.fetch(key) if store and task in ("contents", "footer") else None
+        if hit is None:
+            helper.submit(job)
+            hit = Laid(Path(job["out"]), helper.reply())
+            if task not in ("contents", "footer"):
+                with known:  # its pages and anchors are known: the contents may go ahead
+                    laid[task] = hit
+                    known.notify_all()
+                helper.reply()  # written
+            if store:
+                store.put(key, hit)
+        with known:
+            laid[task] = hit
+            known.notify_all()
+
+    def work(helper: Printer) -> None:
+        try:
+            while True:
+                with known:
+                    if failures or not todo:
+                        return
+                    ready = all(i in laid for i in range(len(parts)))
+                    task = next((t for t in todo if isinstance(t, int) or ready), None)
+                    if task is None:
+                        known.wait()
+                        continue
+                    todo.remove(task)
+                run(helper, task)
+        except BaseException as exc:  # noqa: BLE001 - reported below; the caller falls back
+            with known:
+                failures.append(exc)
+                known.notify_all()
+
+    threads = [threading.Thread(target=work, args=(h,), name="freerun-pdf-part", daemon=True) for h in pair]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join()
+    if not failures and laid["footer"].info["pages"] != sum(counts()) + laid["contents"].info["pages"]:
+        todo.append("footer")  # the contents took more than one page: the footer layer again
+        work(pair[0])
+    if failures:
+        return False
+    paths = [laid[0].path, laid["contents"].path, *(laid[i].path for i in range(1, len(parts)))]
+    levels = [laid[0].info["levels"], laid["contents"].info["levels"],
+              *(laid[i].info["levels"] for i in range(1, len(parts)))]
+    return assemble(paths, laid["footer"].path, target, levels=levels,
+                    ids=[own[0], defined_ids(cut, [contents]), *own[1:]])
 
 
-def assemble(a_path: Path, c_path: Path, b_path: Path, f_path: Path, target: Path, *, split_at: int,
-             levels: tuple[list[int], list[int], list[int]], ids: tuple[set[str], set[str], set[str]]) -> bool:
-    """Put the parts together (pages of A before ``split_at``, contents, rest of A, B) under the footer layer."""
+def assemble(paths: list[Path], footer: Path, target: Path, *, levels: list[list[int]],
+             ids: list[set[str]]) -> bool:
+    """Put the parts together, in page order (the first part, the contents, the others), under the footer layer.
+
+    ``levels``: each part's bookmark levels in document order; ``ids``: each part's own ``id``s
+    (its other destinations are stand-ins).
+    """
     import pikepdf
 
-    with pikepdf.open(a_path) as pdf, pikepdf.open(c_path) as c_pdf, pikepdf.open(b_path) as b_pdf, \
-            pikepdf.open(f_path) as f_pdf:
-        parts = (pdf, c_pdf, b_pdf)
+    with contextlib.ExitStack() as stack:
+        parts = [stack.enter_context(pikepdf.open(path)) for path in paths]
+        layer = stack.enter_context(pikepdf.open(footer))
+        pdf = parts[0]
         marks = [_outline_entries(p) for p in parts]
         if any(len(m) != len(lv) for m, lv in zip(marks, levels)):
             return False
         names = [_destinations(p) for p in parts]
-        a_count, c_count = len(pdf.pages), len(c_pdf.pages)
+        offsets = []
         with warnings.catch_warnings():  # "named destinations are not copied": they are rebuilt below
             warnings.simplefilter("ignore", getattr(pikepdf, "PageCopyWarning", UserWarning))
-            for i, page in enumerate(c_pdf.pages):
-                pdf.pages.insert(split_at + i, page)
-            pdf.pages.extend(b_pdf.pages)
-        if len(pdf.pages) != len(f_pdf.pages):
+            for part in parts[1:]:
+                offsets.append(len(pdf.pages))
+                pdf.pages.extend(part.pages)
+        if len(pdf.pages) != len(layer.pages):
             return False
-        offsets = {id(pdf): None, id(c_pdf): split_at, id(b_pdf): a_count + c_count}
-        index_of = {id(p): {page.objgen: i for i, page in enumerate(p.pages)} for p in (c_pdf, b_pdf)}
+        offset_of = {id(part): offset for part, offset in zip(parts[1:], offsets)}
+        index_of = {id(p): {page.objgen: i for i, page in enumerate(p.pages)} for p in parts[1:]}
 
         def local(part: Any, dest: Any) -> Any:
             """``dest`` (page, /XYZ, x, y, zoom) of a part, pointing at that page in the document."""
             if part is pdf:
-                return dest  # part A is the document: its pages are the same objects
-            page = pdf.pages[offsets[id(part)] + index_of[id(part)][dest[0].objgen]]
+                return dest  # the first part is the document: its pages are the same objects
+            page = pdf.pages[offset_of[id(part)] + index_of[id(part)][dest[0].objgen]]
             return pikepdf.Array([page.obj, *list(dest)[1:]])
 
         # destinations: each part's own ids (the stand-ins are left out)
@@ -436,17 +606,14 @@ def assemble(a_path: Path, c_path: Path, b_path: Path, f_path: Path, target: Pat
         if "/Names" not in pdf.Root:
             pdf.Root.Names = pikepdf.Dictionary()
         pdf.Root.Names.Dests = pikepdf.Dictionary(Names=flat)
-        # bookmarks in page order: A before the contents, the contents, the rest of A, B
-        a_marks = list(zip(levels[0], marks[0]))
-        order = [m for m in a_marks if m[1][1] < split_at] + list(zip(levels[1], marks[1])) \
-            + [m for m in a_marks if m[1][1] >= split_at] + list(zip(levels[2], marks[2]))
         _write_outline(pdf, [(level, title, local(part, dest), closed)
-                             for (level, (title, _, dest, closed, part)) in order])
+                             for part_levels, part_marks in zip(levels, marks)
+                             for level, (title, _, dest, closed, part) in zip(part_levels, part_marks)])
         # the footer layer over each page, under a fixed name per page (WeasyPrint's pages share one
         # resource dictionary, and a fixed name gives the same bytes for the same page)
-        for number, (page, layer) in enumerate(zip(pdf.pages, f_pdf.pages), start=1):
+        for number, (page, sheet) in enumerate(zip(pdf.pages, layer.pages), start=1):
             name = f"{LAYER}{number}"
-            page.add_resource(pdf.copy_foreign(layer.as_form_xobject()), pikepdf.Name.XObject, pikepdf.Name(name))
+            page.add_resource(pdf.copy_foreign(sheet.as_form_xobject()), pikepdf.Name.XObject, pikepdf.Name(name))
             page.contents_add(b"q\n", prepend=True)  # WeasyPrint leaves its page transformation set
             page.contents_add(f"\nQ\nq {name} Do Q\n".encode("ascii"))
         pdf.save(target, deterministic_id=True)

@@ -209,7 +209,8 @@ def test_summary_page_numbers_equal_results(demo):
 def test_tables_split_across_pages_repeat_their_header(demo):
     pages = _pages(demo / "report.pdf")
     audit = next(i for i, p in enumerate(pages) if p.startswith("Audit appendix"))
-    following = pages[audit + 1:]
+    assert pages[audit + 1].startswith("Every parameter as used"), "the parameter list starts its own page"
+    following = pages[audit + 2:]
     assert following, "the parameter table runs over several pages"
     for text in following:
         assert text.startswith("Key Value"), text[:60]

@@ -148,9 +148,14 @@ def test_cut_refuses_pages_it_cannot_cut(demo_page):
     assert pdf_parts.cut_page(page.replace(pdf_parts.MARK, "")) is None  # an older page: no marks
     assert pdf_parts.cut_page(page.replace(pdf_parts.COMMON[0], "")) is None
     cut = pdf_parts.cut_page(page)
-    front, contents, rest, back = pdf_parts.choose_split(cut)
-    assert contents.id == "contents" and back[0].kind in pdf_parts.PAGE_STARTS and rest
-    assert [b.id for b in front + [contents] + rest + back] == [b.id for b in cut.blocks]
+    front, contents, after = pdf_parts.plan(cut)
+    assert contents.id == "contents" and [b.id for b in front] == ["cover", "summary"]
+    assert [b.id for b in front + [contents] + [b for part in after for b in part]] == [b.id for b in cut.blocks]
+    assert all(part[0].kind in pdf_parts.PAGE_STARTS for part in after[1:])
+    stages = [b.id for part in after for b in part if b.kind == "stage"]
+    assert len(after) >= 4 and any(part == [next(b for b in cut.blocks if b.id == "energy")] for part in after), \
+        "the energy section is a part of its own (a tariff rebuild lays out that part again)"
+    assert stages == ["climate", "loads", "openings", "comfort", "energy"]
 
 
 def test_falls_back_to_one_document(demo_page, tmp_path, monkeypatch):
@@ -178,7 +183,7 @@ def test_a_part_that_fails_in_the_helper_falls_back(demo_page, tmp_path):
     _, page = demo_page
     printer = pdf_parts.Printer()
     try:
-        printer.submit({"html": "<html>", "paper": "no such paper", "out": str(tmp_path / "b.pdf"),
+        printer.submit({"kind": "part", "html": "<html>", "paper": "no such paper", "out": str(tmp_path / "b.pdf"),
                         "base_url": str(tmp_path)})
         with pytest.raises(RuntimeError, match="paper"):
             printer.reply()
@@ -223,9 +228,55 @@ def _structure_marks(path: Path) -> list[tuple[int, str, int]]:
 def test_stand_in_anchors_only_where_a_link_leaves_its_part(demo_page):
     _, page = demo_page
     cut = pdf_parts.cut_page(page)
-    front, contents, rest, back = pdf_parts.choose_split(cut)
+    back = pdf_parts.plan(cut)[2][-1]
     html = pdf_parts.part_html(cut, back, pdf_parts.PART_CSS)
     defined = set(re.findall(r'id="([^"]+)"', "".join(b.html for b in back)))
     stand_ins = set(re.findall(r'<span id="([^"]+)"></span>', html))
     assert stand_ins == set(re.findall(r'href="#([^"]+)"', "".join(b.html for b in back))) - defined
     assert html.count(pdf_parts.COMMON[0]) == 0 and 'class="ps-title"' in html  # the running-header strings
+
+
+def test_cache_lays_out_only_the_parts_that_changed(demo_page, tmp_path, monkeypatch):
+    _, page = demo_page
+    cache = tmp_path / "cache"
+    jobs: list[str] = []
+    submit = pdf_parts.Printer.submit
+    monkeypatch.setattr(pdf_parts.Printer, "submit", lambda self, job: (jobs.append(job["kind"]), submit(self, job))[1])
+    parts = 1 + len(pdf_parts.plan(pdf_parts.cut_page(page))[2])
+    assert pdf_parts.render(page, tmp_path / "first.pdf", "A4", cache=cache)
+    assert sorted(jobs) == ["contents", "footer"] + ["part"] * parts
+    jobs.clear()
+    assert pdf_parts.render(page, tmp_path / "again.pdf", "A4", cache=cache)
+    assert jobs == [], "nothing changed: every part, the contents and the footer layer come from the cache"
+    assert (tmp_path / "again.pdf").read_bytes() == (tmp_path / "first.pdf").read_bytes()
+
+    # one more paragraph at the end of the energy section: that part only is laid out again
+    energy = next(b for b in pdf_parts.cut_page(page).blocks if b.id == "energy").html
+    end = energy.rindex("</section>")
+    changed = page.replace(energy, energy[:end] + "<p>One more paragraph, for the test.</p>" + energy[end:])
+    jobs.clear()
+    assert pdf_parts.render(changed, tmp_path / "changed.pdf", "A4", cache=cache)
+    assert jobs.count("part") == 1
+    _assert_same_document(tmp_path / "changed.pdf", render_whole(changed, tmp_path / "changed-whole.pdf"))
+
+    # a damaged entry is found by its digest and laid out again
+    entry = max((p for p in cache.glob("*.pdf")), key=lambda p: p.stat().st_size)
+    entry.write_bytes(entry.read_bytes()[:-100])
+    jobs.clear()
+    assert pdf_parts.render(page, tmp_path / "mended.pdf", "A4", cache=cache)
+    assert jobs == ["part"]
+    assert (tmp_path / "mended.pdf").read_bytes() == (tmp_path / "first.pdf").read_bytes()
+
+
+def test_a_rebuild_with_nothing_changed_lays_out_only_the_audit_facts(tmp_path, monkeypatch):
+    out = tmp_path / "build" / "P01"
+    assert main(["build", str(DEMO), "--out", str(out), "--quiet"]) == 0
+    jobs: list[str] = []
+    submit = pdf_parts.Printer.submit
+    monkeypatch.setattr(pdf_parts.Printer, "submit", lambda self, job: (jobs.append(job.get("html", job["kind"])),
+                                                                        submit(self, job))[1])
+    assert main(["build", str(DEMO), "--out", str(out), "--quiet"]) == 0
+    assert len(jobs) == 1 and 'id="audit"' in jobs[0], "only the part with the build's times is laid out again"
+    assert _structure(out / "report.pdf")["sizes"]  # a whole report, put together from the cache
+    whole = render_whole((out / "report.html").read_text(encoding="utf-8"), tmp_path / "whole.pdf")
+    _assert_same_document(out / "report.pdf", whole)
