@@ -1,25 +1,26 @@
-"""report.pdf laid out in two processes at once, then put together as one document.
+"""report.pdf laid out in parts, two processes at once, and put together as one document.
 
 WeasyPrint lays a document out in one Python thread: about 4 s for the demo report, on one
-core, while the machine's other core waits. This module cuts the report page at page breaks
-that the print style sheet forces anyway (each top-level block of ``report.html`` follows a
-``<!--freerun-part-->`` mark, :data:`MARK`) into
-
-* part **A**: the cover, the executive summary, the notes and the first stage sections;
-* part **B**: the remaining stage sections and the appendices;
-* the **contents** page, laid out once both parts are, with the page numbers they give;
-* a **footer layer**: one empty page per page of the report carrying only "page N of M".
+core, while the machine's other core waits; and after a rebuild most of the report is what it
+was. This module cuts the report page at page breaks that the print style sheet forces anyway
+(each top-level block of ``report.html`` follows a ``<!--freerun-part-->`` mark, :data:`MARK`)
+into parts (:func:`plan`): the cover and the executive summary; then one part at each sizable
+block that starts a page — each stage section, the parameter list — after the **contents**,
+which is laid out once every part's pages are known, with the page numbers they give. A
+**footer layer** — one empty page per page of the report, carrying only "page N of M" — is laid
+over the pages at the end.
 
 Two helper processes (:class:`Printer`, :func:`start`; a build starts them with its stages, at
-a low priority, so their import of WeasyPrint is done by the time the PDF is due) lay out A and
-B at the same time; A's helper then lays out the contents and the footer layer while B's writes
-B. The parts are laid out without the page number; :func:`assemble` (pikepdf) copies the pages
-in order — A up to the contents, the contents, the rest of A, B — lays the footer layer over
-each page, and rebuilds the named destinations (every ``id``; links point at them by name) and
-the bookmarks from the parts' own, so links, bookmarks and page numbers are those of the report
-laid out as one document. Each part repeats the running-header strings and the DRAFT mark (the
-cover's text between the :data:`COMMON` marks), and a link whose target is in another part gets
-a hidden stand-in anchor so that WeasyPrint keeps it.
+a low priority, so their import of WeasyPrint is done by the time the PDF is due) take the parts
+largest first, then the contents and the footer layer side by side. Parts come from, and go to,
+a cache of laid-out parts (:class:`PartCache`, keyed by their HTML), so a rebuild lays out only
+the parts that changed. The parts are laid out without the page number; :func:`assemble`
+(pikepdf) copies the pages in order, lays the footer layer over each page, and rebuilds the
+named destinations (every ``id``; links point at them by name) and the bookmarks from the
+parts' own, so links, bookmarks and page numbers are those of the report laid out as one
+document. Each part repeats the DRAFT mark (between the :data:`COMMON` marks in the cover; every
+block opens with its own running-header strings), and a link whose target is in another part
+gets a hidden stand-in anchor so that WeasyPrint keeps it.
 
 The tests hold the result against WeasyPrint's one-document layout (same pages, text, pixels,
 links, bookmarks and destinations). Anything unexpected — no marks, a helper gone or failing, a
@@ -67,7 +68,7 @@ MIN_SHARE = 0.10
 CACHE_ENTRIES = 64
 #: Resource name of the footer layer of page N: this + N.
 LAYER = "/FreerunPageNumber"
-#: Niceness of the helper: it imports WeasyPrint while the stages run.
+#: Niceness the helpers take: they import WeasyPrint while the stages run.
 NICE = 10
 
 _LEN = struct.Struct("<I")
@@ -102,15 +103,17 @@ def enabled() -> bool:
 
 
 class Printer:
-    """The build's PDF helper: a process with WeasyPrint imported that lays out part B on request."""
+    """A PDF helper: a process that imports WeasyPrint as it starts and lays out what it is sent.
+
+    It lowers its own priority (:data:`NICE`) before it imports anything heavy.
+    """
 
     def __init__(self) -> None:
         self._process = subprocess.Popen([sys.executable, "-m", "calcs.pdf_parts"], stdin=subprocess.PIPE,
-                                         stdout=subprocess.PIPE, close_fds=True,
-                                         preexec_fn=lambda: os.nice(NICE))  # noqa: PLW1509 - no threads yet in the child
+                                         stdout=subprocess.PIPE, close_fds=True)
 
     def submit(self, job: dict[str, Any]) -> None:
-        """Send one part to lay out and write (``html``, ``paper``, ``out``)."""
+        """Send one job (``kind`` part, contents or footer; see :func:`_serve`)."""
         _send(self._process.stdin, job)
 
     def reply(self) -> dict[str, Any]:
@@ -424,18 +427,23 @@ class PartCache:
             digest.update(b"\0" + text.encode("utf-8"))
         return digest.hexdigest()
 
-    def fetch(self, key: str) -> Laid | None:
+    def fetch(self, key: str, into: Path) -> Laid | None:
+        """The entry ``key``, its PDF copied into the folder ``into`` (another build may prune it meanwhile)."""
+        import shutil
+
         from .audit import sha256_file
 
         path, note = self.folder / f"{key}.pdf", self.folder / f"{key}.json"
+        copy = into / f"cached-{key}.pdf"
         try:
             info = json.loads(note.read_text(encoding="utf-8"))
-            if sha256_file(path) != info.get("sha256"):
+            shutil.copyfile(path, copy)
+            if sha256_file(copy) != info.get("sha256"):
                 return None
             os.utime(note)  # recently used
         except (OSError, ValueError):
             return None
-        return Laid(path, info)
+        return Laid(copy, info)
 
     def put(self, key: str, laid: Laid) -> None:
         import shutil
@@ -472,7 +480,7 @@ def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Bloc
     laid: dict[Any, Laid] = {}  # part index, "contents" or "footer" → its laid-out PDF
     keys = [store.key(html) if store else "" for html in htmls]
     for i, key in enumerate(keys):
-        hit = store.fetch(key) if store else None
+        hit = store.fetch(key, folder) if store else None
         if hit is not None:
             laid[i] = hit
     todo: list[Any] = sorted((i for i in range(len(parts)) if i not in laid), key=lambda i: -_weight(htmls[i]))
@@ -508,7 +516,7 @@ def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Bloc
 
     def run(helper: Printer, task: Any) -> None:
         job, key = job_for(task)
-        hit = store.fetch(key) if store and task in ("contents", "footer") else None
+        hit = store.fetch(key, folder) if store and task in ("contents", "footer") else None
         if hit is None:
             helper.submit(job)
             hit = Laid(Path(job["out"]), helper.reply())
@@ -701,5 +709,6 @@ def _write_outline(pdf: Any, marks: list[tuple[int, str, Any, bool]]) -> None:
 if __name__ == "__main__":
     import signal
 
+    os.nice(NICE)  # the stages run meanwhile; this one's work is due only at the end
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C reaches the build, which then ends us
     _serve()
