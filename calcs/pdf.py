@@ -27,8 +27,8 @@ import json
 import logging
 import os
 import re
-from pathlib import Path
 from collections.abc import Iterator
+from pathlib import Path
 from typing import Any
 
 from .errors import FreerunError
