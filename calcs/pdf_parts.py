@@ -47,6 +47,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+# calcs.pdf imports WeasyPrint itself only on first use
+from .pdf import warm_up, weasy_document, writing
+
 #: Put before every top-level block of the report page by ``templates/report.html.j2``.
 MARK = "<!--freerun-part-->"
 #: Around what every part repeats (the DRAFT mark, until the report is approved), in the cover.
@@ -161,8 +164,6 @@ def _receive(stream: Any) -> dict[str, Any]:
 
 def _serve() -> None:
     """The helper's loop: ``part``, ``contents`` and ``footer`` jobs, one at a time."""
-    from .pdf import warm_up
-
     fonts = warm_up()  # one font configuration for every document this helper lays out
     inp, out = sys.stdin.buffer, sys.stdout.buffer
     jobs = {"part": _part, "contents": _contents, "footer": _footer}
@@ -179,8 +180,6 @@ def _serve() -> None:
 
 def _part(job: dict[str, Any], out: Any, fonts: Any) -> None:
     """Lay out one part; answer its pages, anchors and bookmark levels; write it; answer again."""
-    from .pdf import weasy_document, writing
-
     with writing():
         document = weasy_document(job["html"], job["paper"], base_url=job["base_url"], font_config=fonts)
         _send(out, {"pages": len(document.pages), "anchors": _anchor_pages(document), "levels": _levels(document)})
@@ -191,8 +190,6 @@ def _part(job: dict[str, Any], out: Any, fonts: Any) -> None:
 def _contents(job: dict[str, Any], out: Any, fonts: Any) -> None:
     """Lay out and write the contents: ``candidates[k - 1]`` has the page numbers the parts get when
     the contents is k pages long; the first that is as long as it assumes is the one."""
-    from .pdf import weasy_document, writing
-
     with writing():
         for length, html in enumerate(job["candidates"], start=1):
             document = weasy_document(html, job["paper"], base_url=job["base_url"], font_config=fonts)
@@ -207,8 +204,6 @@ def _contents(job: dict[str, Any], out: Any, fonts: Any) -> None:
 
 def _footer(job: dict[str, Any], out: Any, fonts: Any) -> None:
     """Lay out and write the footer layer of ``count`` pages."""
-    from .pdf import weasy_document, writing
-
     with writing():
         layer = weasy_document(footer_html(job["head"], job["count"]), job["paper"], base_url=job["base_url"],
                                font_config=fonts)
