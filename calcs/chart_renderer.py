@@ -185,10 +185,12 @@ def _serve(address: str) -> None:
         shutil.rmtree(os.path.dirname(address), ignore_errors=True)  # the build's private folder
         os._exit(0)
 
-    threading.Thread(target=end_with_the_build, daemon=True).start()
     listener = socket.socket(socket.AF_UNIX, socket.SOCK_STREAM)
     listener.bind(address)
     listener.listen(64)  # kernels may connect now; they wait while the engine starts
+    # after the bind: a build already gone would otherwise have its folder removed while the
+    # socket is being made in it, and the folder would stay
+    threading.Thread(target=end_with_the_build, daemon=True).start()
     start_engine()
     # one chart at a time: vl-convert renders one at a time in a process anyway (measured: six
     # renderings took as long from two or three threads as one after another)
