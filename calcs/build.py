@@ -182,6 +182,8 @@ def build(
             store = "" if fresh else str(target.parent / CACHE_DIR / "sweeps")
             if pdf:  # the PDF's helpers import WeasyPrint while the stages run (≈ 1 s), at a low priority
                 printers = _start_printers(ends)
+                if printers is not None and not fresh:  # then lay out the parameter list (it needs no results)
+                    _lay_out_ahead(printers, project, work, target)
             with _sweep_environment(scheduler, jobs, store):
                 stages = _run_stages(work, resolved, target, inputs_sha, fresh, seconds, say)
             results = merge_results(work)
@@ -245,7 +247,19 @@ def _start_printers(ends: contextlib.ExitStack) -> Any:
         return None
     printers = pdf_parts.start()
     ends.callback(pdf_parts.close, printers)
+    threading.Thread(target=pdf_parts.import_pikepdf, name="freerun-pdf-import", daemon=True).start()  # pikepdf's import
     return printers
+
+
+def _lay_out_ahead(printers: Any, project: Project, work: Path, target: Path) -> None:
+    """Have a PDF helper lay out the report's parameter list into the part cache while the stages run
+    (:func:`calcs.pdf_parts.ahead`): the page :func:`render_into` makes has that block as it is here."""
+    from . import pdf_parts
+    from .pdf import paper_of
+    from .report import render_parameters_page
+
+    pdf_parts.ahead(printers, lambda: render_parameters_page(project=project, parameters=flatten(project)),
+                    paper_of(project), str(work), target.parent / CACHE_DIR / PDF_PARTS_DIR)
 
 
 def _warm_up_pdf() -> None:

@@ -62,6 +62,9 @@ ENV = "FREERUN_PDF_PARTS"
 #: section.audit, section.parameters, section.changes { break-before: page }``): a part may begin
 #: at one of them.
 PAGE_STARTS = ("stage", "decisions", "audit", "parameters", "changes")
+#: Blocks that a build has laid out while its stages run (:func:`ahead`): their HTML depends only
+#: on the inputs (:func:`calcs.report.render_parameters_page`).
+AHEAD = ("parameters",)
 #: The contents block (its own page or pages: the summary breaks after, the contents too).
 CONTENTS = "contents"
 #: A part after the contents takes the next page-starting block too while both are smaller than
@@ -95,11 +98,15 @@ def enabled() -> bool:
     """Whether report.pdf is laid out in parts (``FREERUN_PDF_PARTS`` unset or not ``0``; pikepdf present)."""
     if os.environ.get(ENV, "1").strip() == "0":
         return False
-    try:
+    from importlib.util import find_spec
+
+    return find_spec("pikepdf") is not None  # found, not imported: see import_pikepdf
+
+
+def import_pikepdf() -> None:
+    """Import pikepdf (≈ 0.1 s), which :func:`assemble` uses; a build does it in a thread while its stages run."""
+    with contextlib.suppress(ImportError):
         import pikepdf  # noqa: F401
-    except ImportError:
-        return False
-    return True
 
 
 # ----------------------------------------------------------------------------- the helper process
@@ -114,6 +121,7 @@ class Printer:
     def __init__(self) -> None:
         self._process = subprocess.Popen([sys.executable, "-m", "calcs.pdf_parts"], stdin=subprocess.PIPE,
                                          stdout=subprocess.PIPE, close_fds=True)
+        self.ahead: Ahead | None = None  # what it lays out ahead of the report (:func:`ahead`)
 
     def submit(self, job: dict[str, Any]) -> None:
         """Send one job (``kind`` part, contents or footer; see :func:`_serve`)."""
@@ -139,6 +147,8 @@ class Printer:
         if self._process.poll() is None:
             self._process.terminate()
         self._process.wait()
+        if self.ahead is not None:
+            self.ahead.thread.join()  # it ends once its helper has: no reply comes
         if self._process.stdout is not None:
             self._process.stdout.close()
 
@@ -252,7 +262,9 @@ def cut_page(page: str) -> Cut | None:
     tail_at = page.rfind("</body>")
     pieces = page[body_open:tail_at].split(MARK)
     start, end = page.find(COMMON[0]), page.find(COMMON[1])
-    if len(pieces) < 4 or tail_at < 0 or pieces[0].strip() or not 0 <= start < end:
+    if len(pieces) < 2 or tail_at < 0 or not 0 <= start < end:
+        return None
+    if pieces[0].strip() not in ("", page[start:end + len(COMMON[1])]):  # a page of some blocks: the marks first
         return None
     blocks = []
     for piece in pieces[1:]:
@@ -465,6 +477,68 @@ class PartCache:
             note.unlink(missing_ok=True)
 
 
+    def has(self, key: str) -> bool:
+        """Whether the cache holds an entry ``key`` (checked on :meth:`fetch`)."""
+        return (self.folder / f"{key}.json").is_file() and (self.folder / f"{key}.pdf").is_file()
+
+
+class Ahead:
+    """The parts that one helper lays out into the part cache while a build's stages run (:func:`ahead`).
+
+    A thread of the build waits for the helper's answers. ``keys`` (set once ``keyed`` is) are
+    the cache keys it lays out; the rendering leaves those parts to that helper, which takes them
+    from the cache once ``thread`` has ended (or lays them out then, if they failed).
+    """
+
+    def __init__(self, printer: Printer, page_of: Any, paper: str, base_url: str, store: PartCache) -> None:
+        self.keys: set[str] = set()
+        self.keyed = threading.Event()
+        self.thread = threading.Thread(target=self._run, args=(printer, page_of, paper, base_url, store),
+                                       name="freerun-pdf-ahead", daemon=True)
+        self.thread.start()
+
+    def _run(self, printer: Printer, page_of: Any, paper: str, base_url: str, store: PartCache) -> None:
+        jobs: list[tuple[str, str]] = []
+        try:
+            cut = cut_page(page_of())
+            for block in cut.blocks if cut is not None else []:
+                if block.kind in AHEAD:
+                    html = part_html(cut, [block], PART_CSS)
+                    key = store.key(html)
+                    if not store.has(key):
+                        jobs.append((key, html))
+            self.keys = {key for key, _ in jobs}
+        except Exception:  # noqa: BLE001, S110 - nothing is laid out ahead; the rendering lays out all
+            pass
+        finally:
+            self.keyed.set()
+        for key, html in jobs:
+            out = store.folder / f".ahead-{os.getpid()}-{key}.pdf"
+            try:
+                store.folder.mkdir(parents=True, exist_ok=True)
+                printer.submit({"kind": "part", "html": html, "paper": paper, "base_url": base_url, "out": str(out)})
+                info = printer.reply()
+                printer.reply()  # written
+                store.put(key, Laid(out, info))
+            except RuntimeError:  # that part failed in the helper, which goes on; the rendering tries again
+                continue
+            except OSError:  # the helper is gone (the rendering finds that out too)
+                return
+            finally:
+                out.unlink(missing_ok=True)
+
+
+def ahead(printers: tuple[Printer, Printer], page_of: Any, paper: str, base_url: str, cache: str | Path) -> None:
+    """Have the first helper lay out, now, the :data:`AHEAD` blocks of the page ``page_of()`` gives.
+
+    ``page_of`` (called in a thread) renders a page with those blocks as the report will have
+    them (:func:`calcs.report.render_parameters_page`); the parts go into the cache folder
+    ``cache``. :func:`render` takes them from there: a part whose HTML turns out different is
+    simply not found, and is laid out with the rest.
+    """
+    printers[0].ahead = Ahead(printers[0], page_of, paper, base_url, PartCache(Path(cache), paper))
+
+
 def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Block]], target: Path, paper: str,
             pair: tuple[Printer, Printer], folder: Path, store: PartCache | None) -> bool:
     """Every part in one of the two helpers (largest first), then the contents and the footer layer side by side."""
@@ -478,10 +552,32 @@ def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Bloc
         hit = store.fetch(key, folder) if store else None
         if hit is not None:
             laid[i] = hit
-    todo: list[Any] = sorted((i for i in range(len(parts)) if i not in laid), key=lambda i: -_weight(htmls[i]))
+    waiting: dict[int, Printer] = {}  # parts that a helper is laying out ahead (:func:`ahead`)
+    for helper in pair:
+        if helper.ahead is not None and store is not None:
+            helper.ahead.keyed.wait()
+            waiting.update({i: helper for i, key in enumerate(keys) if key in helper.ahead.keys and i not in laid})
+    todo: list[Any] = sorted((i for i in range(len(parts)) if i not in laid and i not in waiting),
+                             key=lambda i: -_weight(htmls[i]))
     todo += ["contents", "footer"]  # once every part's pages are known
     known = threading.Condition()
     failures: list[BaseException] = []
+
+    def settle(helper: Printer) -> None:
+        """The parts ``helper`` laid out ahead, from the cache (or, failed, back to be laid out)."""
+        if helper.ahead is not None:
+            helper.ahead.thread.join()  # a helper answers one job at a time: its earlier one first
+        mine = [i for i, h in waiting.items() if h is helper]
+        for i in mine:
+            del waiting[i]  # only this helper's thread reads or changes its entries
+        for i in mine:
+            hit = store.fetch(keys[i], folder)
+            with known:
+                if hit is not None:
+                    laid[i] = hit
+                else:
+                    todo.insert(0, i)
+                known.notify_all()
 
     def counts() -> list[int]:
         return [laid[i].info["pages"] for i in range(len(parts))]
@@ -528,6 +624,7 @@ def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Bloc
 
     def work(helper: Printer) -> None:
         try:
+            settle(helper)
             while True:
                 with known:
                     if failures or not todo:

@@ -125,6 +125,37 @@ def render_report(
         body = notebook_html(nb) if nb.is_file() else ""
         toc.append({"level": 2, "anchor": stage, "text": STAGE_TITLES[stage]})
         sections.append({"id": stage, "title": STAGE_TITLES[stage], "body": _shift_headings(body, stage, toc)})
+    signatures = signatures or []
+    status = status_of(signatures)
+    decisions = _decisions(project, results)
+    from .summary import executive_summary, read_defaults
+
+    return _page(
+        project=project,
+        status=status,
+        parameters_only=False,
+        sections=[{**s, "body": jinja2.utils.markupsafe.Markup(s["body"])} for s in sections],
+        toc=toc,
+        signatures={s["role"]: s for s in signatures},
+        decisions=decisions,
+        audit=audit,
+        extra_cover=extra_cover or [],
+        changes=changes,
+        summary=executive_summary(results, project, defaults=read_defaults(build_dir)),
+    )
+
+
+def render_parameters_page(*, project: Any, parameters: list[tuple[str, str]], status: str = "DRAFT") -> str:
+    """The report page with its parameter list alone: the same HTML as that block of :func:`render_report`.
+
+    The list depends only on the inputs, so a build has it laid out while the stages run
+    (:func:`calcs.pdf_parts.ahead`). ``parameters``: :func:`calcs.project.flatten` of the project;
+    ``status``: the report's (a build's is DRAFT).
+    """
+    return _page(project=project, status=status, parameters_only=True, audit={"parameters": parameters})
+
+
+def _page(*, project: Any, **context: Any) -> str:
     env = jinja2.Environment(
         loader=jinja2.FileSystemLoader(str(templates_dir())),
         autoescape=True,
@@ -133,26 +164,7 @@ def render_report(
         lstrip_blocks=True,
     )
     css = (templates_dir() / "report.css").read_text(encoding="utf-8")
-    template = env.get_template("report.html.j2")
-    signatures = signatures or []
-    status = status_of(signatures)
-    decisions = _decisions(project, results)
-    from .summary import executive_summary, read_defaults
-
-    return template.render(
-        project=project,
-        info=project.project,
-        css=css,
-        sections=[{**s, "body": jinja2.utils.markupsafe.Markup(s["body"])} for s in sections],
-        toc=toc,
-        status=status,
-        signatures={s["role"]: s for s in signatures},
-        decisions=decisions,
-        audit=audit,
-        extra_cover=extra_cover or [],
-        changes=changes,
-        summary=executive_summary(results, project, defaults=read_defaults(build_dir)),
-    )
+    return env.get_template("report.html.j2").render(project=project, info=project.project, css=css, **context)
 
 
 def status_of(signatures: list[dict[str, Any]]) -> str:

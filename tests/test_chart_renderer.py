@@ -9,7 +9,6 @@ not demo data.
 
 from __future__ import annotations
 
-import os
 import threading
 from pathlib import Path
 

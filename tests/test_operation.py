@@ -8,7 +8,6 @@ via calcs.airflow, EN 16798-1 and ASHRAE 55 adaptive limits) and hand-worked seq
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
 import pytest
 from numpy.testing import assert_allclose
 

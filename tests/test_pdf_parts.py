@@ -280,3 +280,82 @@ def test_a_rebuild_with_nothing_changed_lays_out_only_the_audit_facts(tmp_path, 
     assert _structure(out / "report.pdf")["sizes"]  # a whole report, put together from the cache
     whole = render_whole((out / "report.html").read_text(encoding="utf-8"), tmp_path / "whole.pdf")
     _assert_same_document(out / "report.pdf", whole)
+
+
+def _parameters_part(page: str) -> str:
+    """The part of ``page`` that holds the parameter list, as the rendering lays it out."""
+    cut = pdf_parts.cut_page(page)
+    part = next(p for p in pdf_parts.plan(cut)[2] if any(b.kind == "parameters" for b in p))
+    assert [b.kind for b in part] == ["parameters"], "the parameter list is a part of its own"
+    return pdf_parts.part_html(cut, part, pdf_parts.PART_CSS)
+
+
+def test_the_parameter_list_laid_out_ahead_is_the_part_of_the_report(demo_page):
+    """What a build lays out while its stages run (render_parameters_page) is byte for byte the
+    part that the finished report page gives, so the rendering finds it in the cache."""
+    from calcs.build import validate_inputs
+    from calcs.project import flatten
+    from calcs.report import render_parameters_page
+
+    _, page = demo_page
+    _, project = validate_inputs(DEMO)
+    early = render_parameters_page(project=project, parameters=flatten(project))
+    cut = pdf_parts.cut_page(early)
+    assert [b.kind for b in cut.blocks] == ["parameters"] and pdf_parts.plan(cut) is None
+    assert pdf_parts.part_html(cut, cut.blocks, pdf_parts.PART_CSS) == _parameters_part(page)
+    checked = render_parameters_page(project=project, parameters=flatten(project), status="CHECKED")
+    assert pdf_parts.part_html(pdf_parts.cut_page(checked), pdf_parts.cut_page(checked).blocks,
+                               pdf_parts.PART_CSS) != _parameters_part(page), "the status is in the running header"
+
+
+def _recording(monkeypatch) -> list[tuple[str, str, str]]:
+    """(kind, the first block's id, the submitting thread's name) of every job sent to a helper."""
+    import threading
+
+    jobs: list[tuple[str, str, str]] = []
+    submit = pdf_parts.Printer.submit
+
+    def record(self, job):
+        found = re.search(r'<(?:section|nav) class="[^"]*" id="([^"]+)"', job.get("html", ""))
+        jobs.append((job["kind"], found.group(1) if found else "", threading.current_thread().name))
+        return submit(self, job)
+
+    monkeypatch.setattr(pdf_parts.Printer, "submit", record)
+    return jobs
+
+
+def test_a_build_lays_out_the_parameter_list_while_its_stages_run(tmp_path, monkeypatch):
+    jobs = _recording(monkeypatch)
+    out = tmp_path / "build" / "P01"
+    assert main(["build", str(DEMO), "--out", str(out), "--quiet"]) == 0
+    laid = [(kind, block, thread) for kind, block, thread in jobs if block == "parameters"]
+    assert laid == [("part", "parameters", "freerun-pdf-ahead")], "once, ahead, and not again at the end"
+    # a tariff changed: the parameter list (it shows the tariff) ahead again; at the end only the
+    # parts whose content changed: the front (the summary's figures), the energy section, the audit facts
+    jobs.clear()
+    check = out.parent / "P01-tariff"
+    assert main(["build", str(DEMO), "--out", str(check), "--quiet", "--set", "energy.electricity_price=0.31"]) == 0
+    assert sorted(b for k, b, t in jobs if t == "freerun-pdf-ahead") == ["parameters"]
+    assert sorted(b for k, b, t in jobs if t != "freerun-pdf-ahead") == ["cover", "decisions", "energy"]
+    whole = render_whole((check / "report.html").read_text(encoding="utf-8"), tmp_path / "whole.pdf")
+    _assert_same_document(check / "report.pdf", whole)
+
+
+def test_a_part_laid_out_ahead_that_turns_out_different_is_laid_out_again(demo_page, tmp_path, monkeypatch):
+    out, page = demo_page
+    built = (out / "report.pdf").read_bytes()
+    jobs = _recording(monkeypatch)
+    parameters = next(b for b in pdf_parts.cut_page(page).blocks if b.kind == "parameters").html
+    other = page.replace(parameters, parameters.replace("</tbody>", "<tr><td>x</td><td>1</td></tr></tbody>"))
+    for n, page_of in enumerate((lambda: other, lambda: 1 / 0)):  # a different list; a page that cannot be made
+        jobs.clear()
+        printers = pdf_parts.start()
+        try:
+            pdf_parts.ahead(printers, page_of, "A4", str(tmp_path), tmp_path / f"cache{n}")
+            assert pdf_parts.render(page, tmp_path / "parts.pdf", "A4", printers, tmp_path / f"cache{n}")
+        finally:
+            pdf_parts.close(printers)
+        assert (tmp_path / "parts.pdf").read_bytes() == built
+        assert ("part", "parameters", "freerun-pdf-part") in jobs, "laid out with the rest"
+        assert [j for j in jobs if j[2] == "freerun-pdf-ahead"] == ([("part", "parameters", "freerun-pdf-ahead")]
+                                                                    if n == 0 else [])

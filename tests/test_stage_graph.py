@@ -98,3 +98,36 @@ def test_open_stage_waits_at_its_gate_until_the_build_decides(tmp_path, word):
         with pytest.raises(StageSkipped, match="not executed"):
             open_stage("loads", DEMO / "project.toml", tmp_path)
     assert opened and time.perf_counter() >= opened[0] >= t0  # it returned only after the gate was written
+
+
+def test_the_executed_notebook_is_written_once_when_it_ends_even_if_the_kernel_dies(tmp_path, monkeypatch):
+    """papermill writes the whole notebook as every cell starts and ends; the build's engine
+    (calcs.stage._engine) writes it once, at the end: after the last cell, and also when the
+    kernel died mid-notebook, so a failed stage's notebook still shows how far it got."""
+    import nbformat
+    import papermill
+    import papermill.engines
+
+    from calcs.stage import _engine
+
+    writes: list[str] = []
+    write = papermill.engines.write_ipynb
+    monkeypatch.setattr(papermill.engines, "write_ipynb", lambda nb, path, **kw: (writes.append(path), write(nb, path, **kw)))
+    for name, cells, expected in [("fine", ["x = 1", "print(x + 1)", "print('three')"], ["2\n", "three\n"]),
+                                  ("dies", ["print('one')", "import os; os._exit(1)", "print('never')"], ["one\n"])]:
+        nb = nbformat.v4.new_notebook()
+        nb.cells = [nbformat.v4.new_code_cell(source) for source in cells]
+        src, out = tmp_path / f"{name}.ipynb", tmp_path / f"{name}.out.ipynb"
+        nbformat.write(nb, str(src))
+        writes.clear()
+        try:
+            papermill.execute_notebook(str(src), str(out), kernel_name="python3", progress_bar=False,
+                                       engine_name=_engine())
+        except Exception as exc:  # noqa: BLE001 - the dead kernel's error, checked below
+            assert name == "dies" and "died" in str(exc).lower(), exc
+        else:
+            assert name == "fine"
+        assert writes == [str(out)], "one write by the engine, at the end"
+        done = nbformat.read(str(out), as_version=4)
+        printed = [o["text"] for c in done.cells for o in c.get("outputs", []) if o.get("name") == "stdout"]
+        assert printed == expected
