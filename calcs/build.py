@@ -211,6 +211,8 @@ def build(
 CACHE_DIR = ".stage-cache"
 #: Laid-out parts of report.pdf (:class:`calcs.pdf_parts.PartCache`), in the stage cache folder.
 PDF_PARTS_DIR = "pdf-parts"
+#: Rendered charts (:class:`calcs.chart_renderer.ChartCache`), in the stage cache folder.
+CHARTS_DIR = "charts"
 
 
 def _sweep_environment(scheduler: str | None, jobs: int | None, store: str):
@@ -271,12 +273,13 @@ def _warm_up_pdf() -> None:
         pass
 
 
-def _start_chart_renderer(ends: contextlib.ExitStack) -> None:
-    """Start the process that renders this build's charts (:mod:`calcs.chart_renderer`) and tell
-    the kernels started from now on where it is; ``ends`` ends it and restores the environment."""
+def _start_chart_renderer(ends: contextlib.ExitStack, cache: Path | None) -> None:
+    """Start the process that renders this build's charts (:mod:`calcs.chart_renderer`; ``cache``:
+    its folder of rendered charts) and tell the kernels started from now on where it is; ``ends``
+    ends it and restores the environment."""
     from .chart_renderer import ENV, ChartRenderer
 
-    renderer = ChartRenderer()
+    renderer = ChartRenderer(cache)
     ends.callback(renderer.close)
     ends.enter_context(_environment({ENV: renderer.address}))  # restored before the renderer ends
 
@@ -338,7 +341,7 @@ def _run_stages(work: Path, resolved: Path, target: Path, inputs_sha: dict[str, 
 
     def launch(stage: str, ahead: bool) -> None:
         if not renderer:  # the build's first kernel: the chart renderer starts first (none when all is reused)
-            _start_chart_renderer(ends)
+            _start_chart_renderer(ends, None if fresh else target.parent / CACHE_DIR / CHARTS_DIR)
             renderer.append(True)
         running[pool.submit(_run_stage, stage, resolved, work, ahead, fork_server() if ahead else None)] = stage
 

@@ -15,12 +15,18 @@ Protocol, one connection per chart: the kernel sends the scale (8-byte float) an
 specification's length (4 bytes) and UTF-8 text; the renderer answers ``0`` + length + PNG, or
 ``1`` + length + the error message (raised in the kernel as :class:`ChartError`).
 
-Run as ``python -m calcs.chart_renderer SOCKET`` by :class:`ChartRenderer` only; it ends when the
-build closes its standard input (or the build process is gone).
+A build also gives the renderer a folder of charts already rendered (:class:`ChartCache`,
+``<build parent>/.stage-cache/charts/``, keyed by vl-convert's version, the code version, the
+scale and the specification): a tariff rebuild re-runs the energy stage, but its monthly-energy
+and energy-saving charts do not depend on prices, and come from there.
+
+Run as ``python -m calcs.chart_renderer SOCKET [CACHE]`` by :class:`ChartRenderer` only; it ends
+when the build closes its standard input (or the build process is gone).
 """
 
 from __future__ import annotations
 
+import hashlib
 import os
 import shutil
 import socket
@@ -30,6 +36,7 @@ import sys
 import tempfile
 import threading
 import time
+from pathlib import Path
 
 #: Environment variable with the socket path of the build's renderer (set for the stage kernels).
 ENV = "FREERUN_CHART_RENDERER"
@@ -50,10 +57,12 @@ class ChartError(RuntimeError):
 class ChartRenderer:
     """The build's side of the renderer: starts it and ends it; ``address`` goes to :data:`ENV`."""
 
-    def __init__(self) -> None:
+    def __init__(self, cache: str | os.PathLike | None = None) -> None:
+        """``cache``: a folder of rendered charts (:class:`ChartCache`) to take them from and keep them in."""
         self._folder = tempfile.mkdtemp(prefix="freerun-charts-")  # private (0700); a short path for the socket
         self.address = os.path.join(self._folder, "render.sock")
-        self._process = subprocess.Popen([sys.executable, "-m", "calcs.chart_renderer", self.address],
+        self._process = subprocess.Popen([sys.executable, "-m", "calcs.chart_renderer", self.address,
+                                          *([str(cache)] if cache is not None else [])],
                                          stdin=subprocess.PIPE, close_fds=True)
 
     def close(self) -> None:
@@ -125,6 +134,55 @@ def opaque_png(png: bytes) -> bytes:
     return out.getvalue()
 
 
+#: Rendered charts a cache folder keeps (the least recently used go first).
+CHART_ENTRIES = 256
+
+
+class ChartCache:
+    """Rendered charts by the SHA-256 of what made them: vl-convert's version, the code version
+    (:func:`calcs.cache.code_version`: :func:`opaque_png` among it), the scale and the specification.
+
+    An entry ``<key>.chart`` is the SHA-256 of the PNG (32 bytes), then the PNG; one that does
+    not match its digest is not used (the chart is rendered again). The same specification gives
+    the same PNG, so a chart from the cache is the chart that would be rendered now.
+    """
+
+    def __init__(self, folder: str | os.PathLike) -> None:
+        import vl_convert
+
+        from .cache import code_version
+
+        self.folder = Path(folder)
+        self._salt = f"{vl_convert.__version__}\0{code_version()}"
+
+    def key(self, spec: str, scale: float) -> str:
+        return hashlib.sha256(f"{self._salt}\0{float(scale)!r}\0{spec}".encode()).hexdigest()
+
+    def get(self, key: str) -> bytes | None:
+        path = self.folder / f"{key}.chart"
+        try:
+            data = path.read_bytes()
+            if hashlib.sha256(data[32:]).digest() != data[:32]:
+                return None
+            os.utime(path)  # recently used
+        except OSError:
+            return None
+        return data[32:]
+
+    def put(self, key: str, png: bytes) -> None:
+        path = self.folder / f"{key}.chart"
+        tmp = path.with_name(f".{path.name}.{os.getpid()}")
+        try:
+            self.folder.mkdir(parents=True, exist_ok=True)
+            tmp.write_bytes(hashlib.sha256(png).digest() + png)
+            os.replace(tmp, path)
+            entries = sorted(self.folder.glob("*.chart"), key=lambda p: p.stat().st_mtime)
+            for old in entries[:-CHART_ENTRIES]:
+                old.unlink(missing_ok=True)
+        except OSError:
+            tmp.unlink(missing_ok=True)  # a cache that cannot be written only costs time
+
+
 def _ask(address: str, spec: str, scale: float) -> bytes:
     deadline = time.monotonic() + CONNECT_WAIT
     while True:
@@ -162,15 +220,20 @@ def _read(conn: socket.socket, n: int) -> bytes:
 # ----------------------------------------------------------------------------- renderer side
 
 
-def _handle(conn: socket.socket) -> None:
+def _handle(conn: socket.socket, cache: ChartCache | None = None) -> None:
     with conn:
         try:
             scale, length = _HEAD.unpack(_read(conn, _HEAD.size))
             spec = _read(conn, length).decode("utf-8")
         except (OSError, UnicodeDecodeError):
             return
+        key = cache.key(spec, scale) if cache is not None else ""
         try:
-            status, payload = 0, _png(spec, scale)
+            status, payload = 0, cache.get(key) if cache is not None else None
+            if payload is None:
+                payload = _png(spec, scale)
+                if cache is not None:
+                    cache.put(key, payload)
         except Exception as exc:  # noqa: BLE001 - sent back to the kernel, which raises it
             status, payload = 1, f"{type(exc).__name__}: {exc}".encode()
         try:
@@ -179,7 +242,7 @@ def _handle(conn: socket.socket) -> None:
             pass
 
 
-def _serve(address: str) -> None:
+def _serve(address: str, cache_folder: str | None = None) -> None:
     def end_with_the_build() -> None:
         sys.stdin.buffer.read()  # returns when the build closes our input or is gone
         shutil.rmtree(os.path.dirname(address), ignore_errors=True)  # the build's private folder
@@ -192,15 +255,16 @@ def _serve(address: str) -> None:
     # socket is being made in it, and the folder would stay
     threading.Thread(target=end_with_the_build, daemon=True).start()
     start_engine()
+    cache = ChartCache(cache_folder) if cache_folder else None
     # one chart at a time: vl-convert renders one at a time in a process anyway (measured: six
     # renderings took as long from two or three threads as one after another)
     while True:
         conn, _ = listener.accept()
-        _handle(conn)
+        _handle(conn, cache)
 
 
 if __name__ == "__main__":
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C reaches the build, which then ends us
-    _serve(sys.argv[1])
+    _serve(sys.argv[1], sys.argv[2] if len(sys.argv) > 2 else None)

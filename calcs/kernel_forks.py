@@ -163,8 +163,9 @@ def _alive(pid: int) -> bool:
 
 def kernel_manager_class(server: ForkServer, nice: int = 0):
     """A jupyter_client kernel manager class whose kernels ``server`` forks (``nice``: their niceness)."""
-    from jupyter_client import AsyncKernelManager
     from jupyter_client.provisioning import LocalProvisioner
+
+    from .stage import kernel_manager_base
 
     class ForkedProvisioner(LocalProvisioner):
         async def launch_kernel(self, cmd: list[str], **kwargs: Any):
@@ -181,7 +182,7 @@ def kernel_manager_class(server: ForkServer, nice: int = 0):
             self.cwd = cwd
             return self.connection_info
 
-    class ForkedKernelManager(AsyncKernelManager):
+    class ForkedKernelManager(kernel_manager_base()):
         async def _async_pre_start_kernel(self, **kw: Any):
             import uuid
 

@@ -138,3 +138,40 @@ def test_the_renderer_ends_with_its_build_process(tmp_path):
         time.sleep(0.05)
     assert not _alive(pid)
     assert not Path(out.stdout.split()[1]).parent.exists()  # and took its private folder with it
+
+
+def test_a_renderer_with_a_cache_renders_each_specification_once(tmp_path, monkeypatch):
+    """A chart from the cache is byte for byte the rendered one (and holds vl-convert's pixels); a
+    new scale or specification is rendered; a damaged entry is found by its digest and rendered again."""
+    cache = tmp_path / "charts"
+    r = chart_renderer.ChartRenderer(cache)
+    try:
+        spec = _spec()
+        first = chart_renderer._ask(r.address, spec, 2.0)
+        assert _same(first, spec, 2.0)
+        entries = sorted(cache.glob("*.chart"))
+        assert len(entries) == 1
+        import hashlib
+
+        marked = b"taken from the cache"  # an entry with a good digest is answered as it is: not rendered
+        entries[0].write_bytes(hashlib.sha256(marked).digest() + marked)
+        assert chart_renderer._ask(r.address, spec, 2.0) == marked
+        entries[0].write_bytes(hashlib.sha256(first).digest() + first)
+        stamp = entries[0].stat().st_mtime_ns
+        assert chart_renderer._ask(r.address, spec, 2.0) == first
+        assert sorted(cache.glob("*.chart")) == entries
+        other = _spec(seed=1)
+        assert _same(chart_renderer._ask(r.address, other, 2.0), other, 2.0)
+        assert _same(chart_renderer._ask(r.address, spec, 1.0), spec, 1.0)
+        assert len(list(cache.glob("*.chart"))) == 3
+        # a damaged entry: not used, rendered again and replaced
+        entries[0].write_bytes(entries[0].read_bytes()[:32] + b"not a png")
+        assert chart_renderer._ask(r.address, spec, 2.0) == first
+        assert entries[0].read_bytes()[32:] == first and entries[0].stat().st_mtime_ns != stamp
+    finally:
+        r.close()
+    # what a cached chart is: its key depends on the specification and the scale
+    store = chart_renderer.ChartCache(cache)
+    assert store.get(store.key(spec, 2.0)) == first
+    assert store.key(spec, 2.0) != store.key(spec, 1.0) != store.key(other, 2.0)
+    assert store.get(store.key("{}", 2.0)) is None

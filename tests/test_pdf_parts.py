@@ -330,6 +330,9 @@ def test_a_build_lays_out_the_parameter_list_while_its_stages_run(tmp_path, monk
     assert main(["build", str(DEMO), "--out", str(out), "--quiet"]) == 0
     laid = [(kind, block, thread) for kind, block, thread in jobs if block == "parameters"]
     assert laid == [("part", "parameters", "freerun-pdf-ahead")], "once, ahead, and not again at the end"
+    charts = out.parent / ".stage-cache" / "charts"
+    cold_charts = set(charts.glob("*.chart"))
+    assert len(cold_charts) == len(list(out.glob("*/*.png"))), "every chart of the report rendered once, and kept"
     # a tariff changed: the parameter list (it shows the tariff) ahead again; at the end only the
     # parts whose content changed: the front (the summary's figures), the energy section, the audit facts
     jobs.clear()
@@ -337,6 +340,8 @@ def test_a_build_lays_out_the_parameter_list_while_its_stages_run(tmp_path, monk
     assert main(["build", str(DEMO), "--out", str(check), "--quiet", "--set", "energy.electricity_price=0.31"]) == 0
     assert sorted(b for k, b, t in jobs if t == "freerun-pdf-ahead") == ["parameters"]
     assert sorted(b for k, b, t in jobs if t != "freerun-pdf-ahead") == ["cover", "decisions", "energy"]
+    assert len(set(charts.glob("*.chart")) - cold_charts) == 1, \
+        "of the energy stage's charts only the tornado (running costs) is rendered again"
     whole = render_whole((check / "report.html").read_text(encoding="utf-8"), tmp_path / "whole.pdf")
     _assert_same_document(check / "report.pdf", whole)
 
