@@ -175,16 +175,18 @@ def render_whole(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER) -
 
 
 def render_pdf(page: str, target: str | Path, *, paper: str = DEFAULT_PAPER, printers: Any = None,
-               cache: str | Path | None = None) -> Path:
+               cache: str | Path | None = None, meanwhile: Any = None) -> Path:
     """Lay out one report page (HTML text) as a PDF at ``target`` (written directly: callers stage it).
 
     In parts, two processes at once, where it can be (:mod:`calcs.pdf_parts`; ``printers``: the
     build's helpers, else two are started for this rendering; ``cache``: a folder of laid-out
-    parts), else as one document; the pages are the same either way.
+    parts), else as one document; the pages are the same either way. ``meanwhile()``: work for
+    this process while the helpers lay the parts out (it must not raise; called at most once, and
+    not when the PDF is laid out here).
     """
     from . import pdf_parts
 
-    if pdf_parts.enabled() and pdf_parts.render(page, target, _paper(paper, "paper"), printers, cache):
+    if pdf_parts.enabled() and pdf_parts.render(page, target, _paper(paper, "paper"), printers, cache, meanwhile):
         return Path(target)
     return render_whole(page, target, paper=paper)
 
@@ -234,14 +236,25 @@ def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, 
     staged = None
     try:
         html_tmp.write_text(page, encoding="utf-8")
-        if want_pdf:  # the exports (≈ 0.3 s in this process) while the PDF helpers lay the parts out
-            exports = _in_thread(lambda: stage_exports(folder, page))
+        exports: list[Any] = []  # (staged folder or None, error or None)
+
+        def export() -> None:
             try:
-                render_pdf(page, pdf_tmp, paper=paper, printers=printers, cache=cache)
+                exports.append((stage_exports(folder, page), None))
+            except BaseException as exc:  # noqa: BLE001 - raised below, once the PDF is done
+                exports.append((None, exc))
+
+        if want_pdf:  # the exports (≈ 0.3 s in this process) while the PDF helpers lay the parts out
+            try:
+                render_pdf(page, pdf_tmp, paper=paper, printers=printers, cache=cache, meanwhile=export)
             finally:
-                staged = exports()  # removed below if the PDF failed
-        else:
-            staged = stage_exports(folder, page)
+                if exports:
+                    staged = exports[0][0]  # removed below if the PDF failed
+        if not exports:
+            export()
+        staged, error = exports[0]
+        if error is not None:
+            raise error
         swap_exports(folder, staged)
         staged = None
         if want_pdf:
@@ -258,31 +271,6 @@ def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, 
 
             shutil.rmtree(staged, ignore_errors=True)
     return html_path
-
-
-def _in_thread(work: Any) -> Any:
-    """Start ``work()`` in a thread; return a function that waits for it and returns its result (or raises its error)."""
-    import threading
-
-    box: list[tuple[bool, Any]] = []
-
-    def run() -> None:
-        try:
-            box.append((True, work()))
-        except BaseException as exc:  # noqa: BLE001 - raised by the waiting function, in the caller's thread
-            box.append((False, exc))
-
-    thread = threading.Thread(target=run, name="freerun-exports", daemon=True)
-    thread.start()
-
-    def wait() -> Any:
-        thread.join()
-        ok, value = box[0]
-        if not ok:
-            raise value
-        return value
-
-    return wait
 
 
 def refresh(build_dir: str | Path) -> None:

@@ -37,6 +37,7 @@ import contextlib
 import json
 import os
 import re
+import signal
 import struct
 import subprocess
 import sys
@@ -78,6 +79,7 @@ LAYER = "/FreerunPageNumber"
 NICE = 10
 
 _LEN = struct.Struct("<I")
+_PID = struct.Struct("<i")
 _ID = re.compile(r'\bid="([^"]+)"')
 _HREF = re.compile(r'href="#([^"]+)"')
 _DATA_URI = re.compile(r'data:[^"]*')
@@ -115,21 +117,29 @@ def import_pikepdf() -> None:
 class Printer:
     """A PDF helper: a process that imports WeasyPrint as it starts and lays out what it is sent.
 
-    It lowers its own priority (:data:`NICE`) before it imports anything heavy.
+    It lowers its own priority (:data:`NICE`) before it imports anything heavy. ``twin``: the
+    two ends (job pipe's read end, answer pipe's write end) that the helper hands, once it has
+    imported WeasyPrint, to a copy of itself (:class:`Twin`, :func:`start`).
     """
 
-    def __init__(self) -> None:
-        self._process = subprocess.Popen([sys.executable, "-m", "calcs.pdf_parts"], stdin=subprocess.PIPE,
-                                         stdout=subprocess.PIPE, close_fds=True)
+    def __init__(self, twin: tuple[int, int] | None = None) -> None:
+        self._process = subprocess.Popen([sys.executable, "-m", "calcs.pdf_parts", *map(str, twin or ())],
+                                         stdin=subprocess.PIPE, stdout=subprocess.PIPE, close_fds=True,
+                                         pass_fds=twin or ())
+        self._in, self._out = self._process.stdin, self._process.stdout
         self.ahead: Ahead | None = None  # what it lays out ahead of the report (:func:`ahead`)
+
+    @property
+    def pid(self) -> int | None:
+        return self._process.pid
 
     def submit(self, job: dict[str, Any]) -> None:
         """Send one job (``kind`` part, contents or footer; see :func:`_serve`)."""
-        _send(self._process.stdin, job)
+        _send(self._in, job)
 
     def reply(self) -> dict[str, Any]:
         """The helper's next answer; raises ``OSError`` if it is gone, ``RuntimeError`` if the part failed."""
-        answer = _receive(self._process.stdout)
+        answer = _receive(self._out)
         if "error" in answer:
             raise RuntimeError(answer["error"])
         return answer
@@ -139,18 +149,73 @@ class Printer:
 
     def close(self) -> None:
         """End the helper (idempotent)."""
-        try:
-            if self._process.stdin is not None and not self._process.stdin.closed:
-                self._process.stdin.close()
-        except OSError:
-            pass
-        if self._process.poll() is None:
-            self._process.terminate()
-        self._process.wait()
+        with contextlib.suppress(OSError):
+            if not self._in.closed:
+                self._in.close()
+        if self.alive():
+            self._end()
+        self._wait()
         if self.ahead is not None:
             self.ahead.thread.join()  # it ends once its helper has: no reply comes
-        if self._process.stdout is not None:
-            self._process.stdout.close()
+        self._out.close()
+
+    def _end(self) -> None:
+        self._process.terminate()
+
+    def _wait(self) -> None:
+        self._process.wait()
+
+
+class Twin(Printer):
+    """The second helper: a copy that the first forks once WeasyPrint is imported and its fonts are
+    loaded (so that import, ≈ 0.9 s of processor time, is paid once while the stages run).
+
+    It is not this process's child: it tells its process id first, on its answer pipe, and is
+    reaped by the first helper (or, once that has ended, by the system). If the first helper
+    ends before it forks, the answer pipe closes: the twin counts as ended.
+    """
+
+    def __init__(self, jobs: int, answers: int) -> None:  # the build's ends of the twin's pipes
+        self._in, self._out = os.fdopen(jobs, "wb"), os.fdopen(answers, "rb")
+        self._pid: int | None = None
+        self._told = False
+        self.ahead = None
+
+    @property
+    def pid(self) -> int | None:
+        """The twin's process id (waits until the first helper has forked it); None if it never was."""
+        if not self._told:
+            self._told = True
+            with contextlib.suppress(OSError, ValueError):
+                head = self._out.read(_PID.size)
+                if len(head) == _PID.size:
+                    (self._pid,) = _PID.unpack(head)
+        return self._pid
+
+    def submit(self, job: dict[str, Any]) -> None:
+        self.pid  # noqa: B018 - its process id comes first on the answer pipe
+        super().submit(job)
+
+    def alive(self) -> bool:
+        pid = self.pid
+        if pid is None:
+            return False
+        try:
+            with open(f"/proc/{pid}/stat", encoding="ascii") as handle:
+                return handle.read().rsplit(")", 1)[1].split()[0] != "Z"  # a zombie has ended
+        except (OSError, IndexError):
+            return False
+
+    def _end(self) -> None:
+        with contextlib.suppress(OSError, TypeError):
+            os.kill(self.pid, signal.SIGTERM)
+
+    def _wait(self) -> None:
+        import time
+
+        deadline = time.monotonic() + 5
+        while self.alive() and time.monotonic() < deadline:
+            time.sleep(0.005)
 
 
 def _send(stream: Any, message: dict[str, Any]) -> None:
@@ -172,9 +237,22 @@ def _receive(stream: Any) -> dict[str, Any]:
     return json.loads(body.decode("utf-8"))
 
 
-def _serve() -> None:
-    """The helper's loop: ``part``, ``contents`` and ``footer`` jobs, one at a time."""
+def _serve(twin: tuple[int, int] | None = None) -> None:
+    """The helper's loop: ``part``, ``contents`` and ``footer`` jobs, one at a time.
+
+    ``twin``: pipe ends for a copy of this helper, forked once WeasyPrint is loaded (:class:`Twin`).
+    """
     fonts = warm_up()  # one font configuration for every document this helper lays out
+    if twin is not None:
+        sys.stdout.flush()
+        signal.signal(signal.SIGCHLD, signal.SIG_IGN)  # the twin is reaped as it ends
+        if os.fork() == 0:  # the twin: the same loaded fonts, its own pipes (this process has one thread)
+            signal.signal(signal.SIGCHLD, signal.SIG_DFL)
+            os.dup2(twin[0], 0)
+            os.dup2(twin[1], 1)
+            os.write(1, _PID.pack(os.getpid()))
+        os.close(twin[0])
+        os.close(twin[1])
     inp, out = sys.stdin.buffer, sys.stdout.buffer
     jobs = {"part": _part, "contents": _contents, "footer": _footer}
     while True:
@@ -362,8 +440,22 @@ def _levels(document: Any) -> list[int]:
 
 
 def start() -> tuple[Printer, Printer]:
-    """The two helpers a rendering uses (a build starts them ahead, with its stages)."""
-    return Printer(), Printer()
+    """The two helpers a rendering uses (a build starts them ahead, with its stages): on Linux one
+    process and its :class:`Twin`, elsewhere two processes."""
+    if not (sys.platform.startswith("linux") and hasattr(os, "fork")):
+        return Printer(), Printer()
+    jobs_read, jobs_write = os.pipe()
+    answers_read, answers_write = os.pipe()
+    try:
+        first = Printer(twin=(jobs_read, answers_write))
+    except BaseException:
+        os.close(jobs_write)
+        os.close(answers_read)
+        raise
+    finally:
+        os.close(jobs_read)  # the helpers' ends: only they hold them now
+        os.close(answers_write)
+    return first, Twin(jobs_write, answers_read)
 
 
 def close(printers: tuple[Printer, Printer]) -> None:
@@ -372,13 +464,14 @@ def close(printers: tuple[Printer, Printer]) -> None:
 
 
 def render(page: str, target: str | Path, paper: str, printers: tuple[Printer, Printer] | None = None,
-           cache: str | Path | None = None) -> bool:
+           cache: str | Path | None = None, meanwhile: Any = None) -> bool:
     """Lay ``page`` out in parts and write the assembled PDF to ``target``; False when it cannot be done so.
 
     ``printers``: the build's helpers (:func:`start`, started ahead); None starts two for this
     rendering. ``cache``: a folder of laid-out parts (:class:`PartCache`) to take unchanged parts
-    from and to keep new ones in. A False return leaves nothing behind; the caller then lays the
-    page out as one document.
+    from and to keep new ones in. ``meanwhile()`` is called here once the helpers have their
+    first parts (and must not raise). A False return leaves nothing behind; the caller then
+    lays the page out as one document.
     """
     cut = cut_page(page)
     layout = plan(cut) if cut is not None else None
@@ -390,7 +483,7 @@ def render(page: str, target: str | Path, paper: str, printers: tuple[Printer, P
     done = False
     try:
         store = PartCache(Path(cache), paper) if cache is not None else None
-        done = _render(cut, *layout, Path(target), paper, pair, folder, store)
+        done = _render(cut, *layout, Path(target), paper, pair, folder, store, meanwhile)
     except Exception:  # noqa: BLE001 - the one-document layout follows, and reports its own failure
         done = False
     finally:
@@ -540,7 +633,7 @@ def ahead(printers: tuple[Printer, Printer], page_of: Any, paper: str, base_url:
 
 
 def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Block]], target: Path, paper: str,
-            pair: tuple[Printer, Printer], folder: Path, store: PartCache | None) -> bool:
+            pair: tuple[Printer, Printer], folder: Path, store: PartCache | None, meanwhile: Any = None) -> bool:
     """Every part in one of the two helpers (largest first), then the contents and the footer layer side by side."""
     base = str(target.parent)
     parts = [front, *after]  # in page order; the contents goes after the first
@@ -644,6 +737,8 @@ def _render(cut: Cut, front: list[Block], contents: Block, after: list[list[Bloc
     threads = [threading.Thread(target=work, args=(h,), name="freerun-pdf-part", daemon=True) for h in pair]
     for thread in threads:
         thread.start()
+    if meanwhile is not None:
+        meanwhile()
     for thread in threads:
         thread.join()
     if not failures and laid["footer"].info["pages"] != sum(counts()) + laid["contents"].info["pages"]:
@@ -799,8 +894,6 @@ def _write_outline(pdf: Any, marks: list[tuple[int, str, Any, bool]]) -> None:
 
 
 if __name__ == "__main__":
-    import signal
-
     os.nice(NICE)  # the stages run meanwhile; this one's work is due only at the end
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C reaches the build, which then ends us
-    _serve()
+    _serve((int(sys.argv[1]), int(sys.argv[2])) if len(sys.argv) == 3 else None)

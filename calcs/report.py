@@ -9,6 +9,7 @@ URIs, no script at all, so it opens offline and prints as it shows.
 
 from __future__ import annotations
 
+import functools
 import html
 import re
 from pathlib import Path
@@ -156,15 +157,22 @@ def render_parameters_page(*, project: Any, parameters: list[tuple[str, str]], s
 
 
 def _page(*, project: Any, **context: Any) -> str:
-    env = jinja2.Environment(
-        loader=jinja2.FileSystemLoader(str(templates_dir())),
+    css = (templates_dir() / "report.css").read_text(encoding="utf-8")
+    return (_environment(str(templates_dir())).get_template("report.html.j2")
+            .render(project=project, info=project.project, css=css, **context))
+
+
+@functools.lru_cache(maxsize=4)
+def _environment(folder: str) -> jinja2.Environment:
+    """The report templates' environment, one per folder: it compiles each template once (≈ 0.05 s)
+    and again only when the file changes."""
+    return jinja2.Environment(
+        loader=jinja2.FileSystemLoader(folder),
         autoescape=True,
         undefined=jinja2.StrictUndefined,
         trim_blocks=True,
         lstrip_blocks=True,
     )
-    css = (templates_dir() / "report.css").read_text(encoding="utf-8")
-    return env.get_template("report.html.j2").render(project=project, info=project.project, css=css, **context)
 
 
 def status_of(signatures: list[dict[str, Any]]) -> str:

@@ -166,8 +166,9 @@ def test_falls_back_to_one_document(demo_page, tmp_path, monkeypatch):
     assert not (tmp_path / "x.pdf").exists()
     # a helper that is gone: one document, and no folder of parts left behind
     printers = pdf_parts.start()
-    os.kill(printers[1]._process.pid, signal.SIGKILL)
-    printers[1]._process.wait()
+    os.kill(printers[1].pid, signal.SIGKILL)
+    while printers[1].alive():  # the first helper reaps its twin
+        pass
     render_pdf(page, tmp_path / "dead.pdf", printers=printers)
     assert (tmp_path / "dead.pdf").read_bytes() == whole
     assert [p.name for p in tmp_path.iterdir() if p.name.startswith(".")] == []
