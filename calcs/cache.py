@@ -121,3 +121,50 @@ class StageCache:
             os.replace(tmp, entry)
         except OSError:  # another build stored it first
             shutil.rmtree(tmp, ignore_errors=True)
+
+
+class DigestedFiles:
+    """Byte strings by key in a folder, for the caches beside the stage cache (laid-out PDF parts,
+    rendered charts).
+
+    An entry ``<key><suffix>`` holds the SHA-256 of the bytes (32 bytes), then the bytes; one
+    that does not match its digest is not returned (its maker renders it again). Written under a
+    temporary name, then renamed, so a reader never sees half an entry; beyond ``entries`` the
+    least recently used go first. A folder that cannot be written only costs time.
+    """
+
+    def __init__(self, folder: str | os.PathLike, suffix: str, entries: int) -> None:
+        self.folder = Path(folder)
+        self._suffix = suffix
+        self._entries = entries
+
+    def _path(self, key: str) -> Path:
+        return self.folder / f"{key}{self._suffix}"
+
+    def has(self, key: str) -> bool:
+        """Whether an entry ``key`` is there (its digest is checked by :meth:`get`)."""
+        return self._path(key).is_file()
+
+    def get(self, key: str) -> bytes | None:
+        path = self._path(key)
+        try:
+            data = path.read_bytes()
+            if hashlib.sha256(data[32:]).digest() != data[:32]:
+                return None
+            os.utime(path)  # recently used
+        except OSError:
+            return None
+        return data[32:]
+
+    def put(self, key: str, data: bytes) -> None:
+        path = self._path(key)
+        tmp = path.with_name(f".{path.name}.{os.getpid()}")
+        try:
+            self.folder.mkdir(parents=True, exist_ok=True)
+            tmp.write_bytes(hashlib.sha256(data).digest() + data)
+            os.replace(tmp, path)
+            entries = sorted(self.folder.glob(f"*{self._suffix}"), key=lambda p: p.stat().st_mtime)
+            for old in entries[:-self._entries]:
+                old.unlink(missing_ok=True)
+        except OSError:
+            tmp.unlink(missing_ok=True)

@@ -36,7 +36,6 @@ import sys
 import tempfile
 import threading
 import time
-from pathlib import Path
 
 #: Environment variable with the socket path of the build's renderer (set for the stage kernels).
 ENV = "FREERUN_CHART_RENDERER"
@@ -142,45 +141,27 @@ class ChartCache:
     """Rendered charts by the SHA-256 of what made them: vl-convert's version, the code version
     (:func:`calcs.cache.code_version`: :func:`opaque_png` among it), the scale and the specification.
 
-    An entry ``<key>.chart`` is the SHA-256 of the PNG (32 bytes), then the PNG; one that does
-    not match its digest is not used (the chart is rendered again). The same specification gives
-    the same PNG, so a chart from the cache is the chart that would be rendered now.
+    Entries ``<key>.chart`` (:class:`calcs.cache.DigestedFiles`: the PNG's digest, then the PNG;
+    a damaged one is rendered again). The same specification gives the same PNG, so a chart from
+    the cache is the chart that would be rendered now.
     """
 
     def __init__(self, folder: str | os.PathLike) -> None:
         import vl_convert
 
-        from .cache import code_version
+        from .cache import DigestedFiles, code_version
 
-        self.folder = Path(folder)
+        self._files = DigestedFiles(folder, ".chart", CHART_ENTRIES)
         self._salt = f"{vl_convert.__version__}\0{code_version()}"
 
     def key(self, spec: str, scale: float) -> str:
         return hashlib.sha256(f"{self._salt}\0{float(scale)!r}\0{spec}".encode()).hexdigest()
 
     def get(self, key: str) -> bytes | None:
-        path = self.folder / f"{key}.chart"
-        try:
-            data = path.read_bytes()
-            if hashlib.sha256(data[32:]).digest() != data[:32]:
-                return None
-            os.utime(path)  # recently used
-        except OSError:
-            return None
-        return data[32:]
+        return self._files.get(key)
 
     def put(self, key: str, png: bytes) -> None:
-        path = self.folder / f"{key}.chart"
-        tmp = path.with_name(f".{path.name}.{os.getpid()}")
-        try:
-            self.folder.mkdir(parents=True, exist_ok=True)
-            tmp.write_bytes(hashlib.sha256(png).digest() + png)
-            os.replace(tmp, path)
-            entries = sorted(self.folder.glob("*.chart"), key=lambda p: p.stat().st_mtime)
-            for old in entries[:-CHART_ENTRIES]:
-                old.unlink(missing_ok=True)
-        except OSError:
-            tmp.unlink(missing_ok=True)  # a cache that cannot be written only costs time
+        self._files.put(key, png)
 
 
 def _ask(address: str, spec: str, scale: float) -> bytes:

@@ -233,30 +233,25 @@ def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, 
     want_pdf = pdf_path.exists() if pdf is None else pdf
     html_tmp = folder / f".{HTML_FILE}.tmp-{os.getpid()}"
     pdf_tmp = folder / f".{PDF_FILE}.tmp-{os.getpid()}"
-    staged = None
+    exports: list[Any] = []  # (the staged exports folder or None, an error or None), once made
+
+    def export() -> None:
+        try:
+            exports.append((stage_exports(folder, page), None))
+        except BaseException as exc:  # noqa: BLE001 - raised below, once the PDF is done
+            exports.append((None, exc))
+
     try:
         html_tmp.write_text(page, encoding="utf-8")
-        exports: list[Any] = []  # (staged folder or None, error or None)
-
-        def export() -> None:
-            try:
-                exports.append((stage_exports(folder, page), None))
-            except BaseException as exc:  # noqa: BLE001 - raised below, once the PDF is done
-                exports.append((None, exc))
-
         if want_pdf:  # the exports (≈ 0.3 s in this process) while the PDF helpers lay the parts out
-            try:
-                render_pdf(page, pdf_tmp, paper=paper, printers=printers, cache=cache, meanwhile=export)
-            finally:
-                if exports:
-                    staged = exports[0][0]  # removed below if the PDF failed
+            render_pdf(page, pdf_tmp, paper=paper, printers=printers, cache=cache, meanwhile=export)
         if not exports:
             export()
         staged, error = exports[0]
         if error is not None:
             raise error
         swap_exports(folder, staged)
-        staged = None
+        exports.clear()  # in place now
         if want_pdf:
             os.replace(pdf_tmp, pdf_path)
         os.replace(html_tmp, html_path)
@@ -266,10 +261,10 @@ def write_renderings(folder: str | Path, page: str, *, pdf: bool | None = None, 
     finally:
         html_tmp.unlink(missing_ok=True)
         pdf_tmp.unlink(missing_ok=True)
-        if staged is not None:
+        if exports and exports[0][0] is not None:  # staged, but something after it failed
             import shutil
 
-            shutil.rmtree(staged, ignore_errors=True)
+            shutil.rmtree(exports[0][0], ignore_errors=True)
     return html_path
 
 

@@ -506,17 +506,19 @@ class Laid:
 class PartCache:
     """Laid-out parts by the SHA-256 of what made them (the part's HTML, page size, code versions).
 
-    An entry is ``<key>.pdf`` and ``<key>.json`` (pages, anchors, bookmark levels and the PDF's
-    SHA-256, checked on use: a damaged entry is laid out again). The same HTML gives the same
-    bytes, so a part from the cache is the part that would be laid out now.
+    Entries ``<key>.part`` (:class:`calcs.cache.DigestedFiles`, digest checked on use: a damaged
+    entry is laid out again) hold what the helper told of the part (pages, anchors, bookmark
+    levels; JSON), a NUL byte, and its PDF. The same HTML gives the same bytes, so a part from
+    the cache is the part that would be laid out now.
     """
 
     def __init__(self, folder: Path, paper: str) -> None:
         from importlib.metadata import version
 
-        from .cache import code_version
+        from .cache import DigestedFiles, code_version
 
         self.folder = folder
+        self._files = DigestedFiles(folder, ".part", CACHE_ENTRIES)
         self._salt = json.dumps([paper, version("weasyprint"), code_version()])
 
     def key(self, *texts: str) -> str:
@@ -527,52 +529,30 @@ class PartCache:
             digest.update(b"\0" + text.encode("utf-8"))
         return digest.hexdigest()
 
+    def has(self, key: str) -> bool:
+        """Whether the cache holds an entry ``key`` (checked on :meth:`fetch`)."""
+        return self._files.has(key)
+
     def fetch(self, key: str, into: Path) -> Laid | None:
-        """The entry ``key``, its PDF copied into the folder ``into`` (another build may prune it meanwhile)."""
-        import shutil
-
-        from .audit import sha256_file
-
-        path, note = self.folder / f"{key}.pdf", self.folder / f"{key}.json"
+        """The entry ``key``, its PDF written into the folder ``into``."""
+        data = self._files.get(key)
+        if data is None or b"\0" not in data:
+            return None
+        note, pdf = data.split(b"\0", 1)
         copy = into / f"cached-{key}.pdf"
         try:
-            info = json.loads(note.read_text(encoding="utf-8"))
-            shutil.copyfile(path, copy)
-            if sha256_file(copy) != info.get("sha256"):
-                return None
-            os.utime(note)  # recently used
+            info = json.loads(note.decode("utf-8"))
+            copy.write_bytes(pdf)
         except (OSError, ValueError):
             return None
         return Laid(copy, info)
 
     def put(self, key: str, laid: Laid) -> None:
-        import shutil
-
-        from .audit import sha256_file
-
         try:
-            self.folder.mkdir(parents=True, exist_ok=True)
-            path, note = self.folder / f"{key}.pdf", self.folder / f"{key}.json"
-            tmp = path.with_name(f".{path.name}.{os.getpid()}")
-            shutil.copyfile(laid.path, tmp)
-            os.replace(tmp, path)
-            tmp = note.with_name(f".{note.name}.{os.getpid()}")
-            tmp.write_text(json.dumps({**laid.info, "sha256": sha256_file(path)}), encoding="utf-8")
-            os.replace(tmp, note)
-            self._prune()
+            pdf = laid.path.read_bytes()
         except OSError:
-            pass  # a cache that cannot be written only costs time
-
-    def _prune(self) -> None:
-        notes = sorted(self.folder.glob("*.json"), key=lambda p: p.stat().st_mtime)
-        for note in notes[:-CACHE_ENTRIES]:
-            note.with_suffix(".pdf").unlink(missing_ok=True)
-            note.unlink(missing_ok=True)
-
-
-    def has(self, key: str) -> bool:
-        """Whether the cache holds an entry ``key`` (checked on :meth:`fetch`)."""
-        return (self.folder / f"{key}.json").is_file() and (self.folder / f"{key}.pdf").is_file()
+            return  # a cache that cannot be written only costs time
+        self._files.put(key, json.dumps(laid.info).encode("utf-8") + b"\0" + pdf)
 
 
 class Ahead:

@@ -261,7 +261,7 @@ def test_cache_lays_out_only_the_parts_that_changed(demo_page, tmp_path, monkeyp
     _assert_same_document(tmp_path / "changed.pdf", render_whole(changed, tmp_path / "changed-whole.pdf"))
 
     # a damaged entry is found by its digest and laid out again
-    entry = max((p for p in cache.glob("*.pdf")), key=lambda p: p.stat().st_size)
+    entry = max((p for p in cache.glob("*.part")), key=lambda p: p.stat().st_size)
     entry.write_bytes(entry.read_bytes()[:-100])
     jobs.clear()
     assert pdf_parts.render(page, tmp_path / "mended.pdf", "A4", cache=cache)
